@@ -1,0 +1,113 @@
+import {
+  GROUP_PLANE, GROUP_SOLID, GROUP_UNIAXIAL, type ElementModel, type GroupModel,
+} from '../mechanics/group-model.js';
+import { buildReduction } from '../mechanics/reduction.js';
+import { invertSquare, planeStressCompliance } from '../mechanics/stiffness.js';
+import { normalStrainRow2, normalStrainRow3, ZZ, XX, YY, XY } from '../mechanics/voigt.js';
+import type { MaterialModel } from './compile-material.js';
+import { compileElement } from './compile-element.js';
+import type { GaugeConfig } from './gauge-schema.js';
+import type { GroupConfig } from './group-schema.js';
+
+const DEG = Math.PI / 180;
+
+/**
+ * In-plane observation row of a gauge at angle theta with transverse sensitivity kt, calibrated on a
+ * beam of Poisson ratio nu0: reading = (eps_axial + kt eps_transverse) / (1 - nu0 kt).
+ */
+export function planeObservationRow(thetaDeg: number, kt: number, nu0: number): Float64Array {
+  const a = normalStrainRow2(thetaDeg * DEG, new Float64Array(3));
+  const t = normalStrainRow2((thetaDeg + 90) * DEG, new Float64Array(3));
+  const k = 1 / (1 - nu0 * kt);
+  return a.map((v, i) => (v + kt * t[i]) * k);
+}
+
+/** 3D observation row for unit direction n and (when kt != 0) the unit transverse direction t. */
+export function solidObservationRow(n: readonly number[], t: readonly number[] | undefined, kt: number, nu0: number): Float64Array {
+  const a = normalStrainRow3(n[0], n[1], n[2], new Float64Array(6));
+  if (kt === 0 || t === undefined) return a;
+  const tr = normalStrainRow3(t[0], t[1], t[2], new Float64Array(6));
+  const k = 1 / (1 - nu0 * kt);
+  return a.map((v, i) => (v + kt * tr[i]) * k);
+}
+
+export function unit(v: readonly number[]): number[] {
+  const len = Math.hypot(v[0], v[1], v[2]);
+  return [v[0] / len, v[1] / len, v[2] / len];
+}
+
+/**
+ * Builds a group's numeric model. Gauges and material are already resolved and cross-checked;
+ * returns null when the elements cannot determine the group's strain state.
+ */
+export function compileGroup(
+  group: GroupConfig, gauges: GaugeConfig[], companion: GaugeConfig | null, material: MaterialModel,
+): GroupModel | null {
+  const s6 = material.compliance;
+  const sp = planeStressCompliance(s6);
+  const planeAlpha = Float64Array.from([material.alpha[0], material.alpha[1], 0]);
+  const solidAlpha = Float64Array.from([material.alpha[0], material.alpha[1], material.alpha[2], 0, 0, 0]);
+  const elements: ElementModel[] = [];
+  const m = gauges.length;
+  let n: number;
+  let kind: number;
+  let obs: Float64Array;
+  let stiffness: Float64Array;
+  let hostAlpha: Float64Array;
+  if (group.kind === 'solid_cluster') {
+    kind = GROUP_SOLID;
+    n = 6;
+    obs = new Float64Array(m * n);
+    group.elements.forEach((e, i) => {
+      const g = gauges[i];
+      const t = e.transverse_direction ? unit(e.transverse_direction) : undefined;
+      const row = solidObservationRow(unit(e.direction), t, g.transverse_sensitivity, g.transverse_calibration_nu);
+      obs.set(row, i * n);
+      elements.push(compileElement(g, row, solidAlpha));
+    });
+    stiffness = invertSquare(s6, 6);
+    hostAlpha = material.alpha;
+  } else {
+    const rows = group.elements.map((e, i) =>
+      planeObservationRow('angle_deg' in e ? e.angle_deg : 0, gauges[i].transverse_sensitivity, gauges[i].transverse_calibration_nu));
+    rows.forEach((row, i) => elements.push(compileElement(gauges[i], row, planeAlpha)));
+    if (group.kind === 'plane_rosette') {
+      kind = GROUP_PLANE;
+      n = 3;
+      obs = new Float64Array(m * n);
+      rows.forEach((row, i) => obs.set(row, i * n));
+      stiffness = invertSquare(sp, 3);
+      hostAlpha = planeAlpha.subarray(0, 2);
+    } else {
+      // Uniaxial stress sigma along x: plane strain state = sigma (S11, S21, S61), so with the axial
+      // strain as the unknown the state is axial * (1, S21/S11, S61/S11).
+      kind = GROUP_UNIAXIAL;
+      n = 1;
+      const b = [1, sp[3] / sp[0], sp[6] / sp[0]];
+      obs = Float64Array.from(rows, (row) => row[0] * b[0] + row[1] * b[1] + row[2] * b[2]);
+      stiffness = Float64Array.of(1 / sp[0]);
+      hostAlpha = planeAlpha.subarray(0, 1);
+    }
+  }
+  const reduction = buildReduction(obs, m, n);
+  if (reduction.byMissingMask.get(0) === null) return null;
+  const zero = gauges[0].zero_temperature_degC;
+  return {
+    id: group.id,
+    kind,
+    m,
+    n,
+    elements,
+    reduction,
+    stiffness,
+    zzCompliance: Float64Array.of(s6[ZZ * 6 + XX], s6[ZZ * 6 + YY], s6[ZZ * 6 + XY]),
+    hostAlpha,
+    zeroTempC: zero,
+    residualLimitMicro: group.residual_limit_micro,
+    yieldMPa: material.yieldMPa,
+    tensileMPa: material.tensileMPa,
+    compressiveMPa: material.compressiveMPa,
+    // The companion sits unstressed in the same material: it reads the free strain along its own axis.
+    companion: companion ? compileElement(companion, Float64Array.of(1, 0, 0, 0, 0, 0), solidAlpha) : null,
+  };
+}

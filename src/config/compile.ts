@@ -1,0 +1,115 @@
+import type { ChannelDirectory } from '../model/channel-directory.js';
+import type { GroupModel } from '../mechanics/group-model.js';
+import { problemsFromZod, type ValidationProblem } from '../validation/issues.js';
+import { compileGroup } from './compile-group.js';
+import { compileMaterial, type MaterialModel } from './compile-material.js';
+import { crossCheck } from './cross-check.js';
+import type { GroupConfig } from './group-schema.js';
+import { StructureConfigSchema, type StructureConfig } from './structure-schema.js';
+
+/** A temperature sensor as the pipeline reads it. */
+export interface TemperatureChannel {
+  sensorId: string;
+  loggerId: string;
+  channelId: string;
+  offsetC: number;
+  validMin: number;
+  validMax: number;
+}
+
+/** One group ready for the pipeline: its configuration, its numeric model and where its inputs come from. */
+export interface CompiledGroup {
+  config: GroupConfig;
+  model: GroupModel;
+  loggerId: string;
+  /** Channel id of each element, in element order. */
+  elementChannels: string[];
+  companion: { loggerId: string; channelId: string } | null;
+  temperatures: TemperatureChannel[];
+}
+
+/** A structure configuration checked and compiled: everything that depends only on configuration, computed once. */
+export interface CompiledStructure {
+  config: StructureConfig;
+  structureId: string;
+  directory: ChannelDirectory;
+  groups: CompiledGroup[];
+  groupsById: Map<string, CompiledGroup>;
+  /** Groups whose strain elements a logger reads. */
+  groupsByLogger: Map<string, CompiledGroup[]>;
+  temperatureSensors: Map<string, TemperatureChannel>;
+  materials: Map<string, MaterialModel>;
+}
+
+export type CompileResult = { ok: true; structure: CompiledStructure } | { ok: false; problems: ValidationProblem[] };
+
+/** Validates and compiles a parsed document (from YAML or JSON). Pure: returns all problems at once. */
+export function compileStructure(input: unknown): CompileResult {
+  const parsed = StructureConfigSchema.safeParse(input, { reportInput: true });
+  if (!parsed.success) return { ok: false, problems: problemsFromZod(parsed.error) };
+  const c = parsed.data;
+  const problems = crossCheck(c);
+  const materials = new Map<string, MaterialModel>();
+  c.materials.forEach((m, i) => {
+    const r = compileMaterial(m);
+    if (r.ok) materials.set(m.id, r.model);
+    else problems.push({ path: r.path ? `materials[${i}].${r.path}` : `materials[${i}]`, reason: r.reason });
+  });
+  if (problems.length > 0) return { ok: false, problems };
+
+  const gaugeById = new Map(c.gauges.map((g) => [g.id, g]));
+  const sensorById = new Map<string, TemperatureChannel>(c.temperature_sensors.map((t) => [t.id, {
+    sensorId: t.id, loggerId: t.channel.logger, channelId: t.channel.channel,
+    offsetC: t.offset_degC, validMin: t.valid_range_degC[0], validMax: t.valid_range_degC[1],
+  }]));
+  const groups: CompiledGroup[] = [];
+  c.groups.forEach((grp, i) => {
+    const gauges = grp.elements.map((e) => gaugeById.get(e.gauge)!);
+    const companionId = 'companion_gauge' in grp ? grp.companion_gauge : undefined;
+    const companion = companionId ? gaugeById.get(companionId)! : null;
+    const model = compileGroup(grp, gauges, companion, materials.get(grp.material)!);
+    if (model === null) {
+      problems.push({ path: `groups[${i}].elements`, reason: 'the element directions do not determine the strain state (plane rosettes need three distinct directions modulo 180 degrees; solid clusters six independent ones)' });
+      return;
+    }
+    groups.push({
+      config: grp, model, loggerId: gauges[0].channel.logger,
+      elementChannels: gauges.map((g) => g.channel.channel),
+      companion: companion ? { loggerId: companion.channel.logger, channelId: companion.channel.channel } : null,
+      temperatures: grp.temperature_sensors.map((id) => sensorById.get(id)!),
+    });
+  });
+  if (problems.length > 0) return { ok: false, problems };
+
+  const channels = new Set<string>();
+  for (const g of c.gauges) channels.add(`${g.channel.logger}/${g.channel.channel}`);
+  for (const t of c.temperature_sensors) channels.add(`${t.channel.logger}/${t.channel.channel}`);
+  const loggers = new Set(c.loggers.map((l) => l.id));
+  const groupsByLogger = new Map<string, CompiledGroup[]>();
+  for (const g of groups) groupsByLogger.set(g.loggerId, [...(groupsByLogger.get(g.loggerId) ?? []), g]);
+  return {
+    ok: true,
+    structure: {
+      config: c,
+      structureId: c.structure.id,
+      directory: {
+        structureId: c.structure.id,
+        hasLogger: (id) => loggers.has(id),
+        hasChannel: (logger, channel) => channels.has(`${logger}/${channel}`),
+      },
+      groups,
+      groupsById: new Map(groups.map((g) => [g.config.id, g])),
+      groupsByLogger,
+      temperatureSensors: sensorById,
+      materials,
+    },
+  };
+}
+
+/** Named error for the CLI: carries every problem; the CLI maps it to an exit code. */
+export class ConfigError extends Error {
+  constructor(readonly source: string, readonly problems: ValidationProblem[]) {
+    super(`${source}: invalid configuration\n${problems.map((p) => `  ${p.path}: ${p.reason}`).join('\n')}`);
+    this.name = 'ConfigError';
+  }
+}

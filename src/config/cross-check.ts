@@ -1,0 +1,84 @@
+import type { ValidationProblem } from '../validation/issues.js';
+import type { StructureConfig } from './structure-schema.js';
+
+/**
+ * Checks that need the whole document: unique ids, references that resolve, one channel per
+ * sensor, one group per gauge, gauge kind matching its signal. Returns every problem at once.
+ */
+export function crossCheck(c: StructureConfig): ValidationProblem[] {
+  const problems: ValidationProblem[] = [];
+  const add = (path: string, reason: string) => problems.push({ path, reason });
+  const ids = (list: { id: string }[], name: string) => {
+    const seen = new Map<string, number>();
+    list.forEach((x, i) => {
+      if (seen.has(x.id)) add(`${name}[${i}].id`, `duplicate id "${x.id}" (first used at ${name}[${seen.get(x.id)}])`);
+      else seen.set(x.id, i);
+    });
+    return seen;
+  };
+  const materials = ids(c.materials, 'materials');
+  const loggers = ids(c.loggers, 'loggers');
+  const gauges = ids(c.gauges, 'gauges');
+  const sensors = ids(c.temperature_sensors, 'temperature_sensors');
+  ids(c.groups, 'groups');
+
+  const channels = new Map<string, string>();
+  const claimChannel = (ch: { logger: string; channel: string }, path: string) => {
+    if (!loggers.has(ch.logger)) add(`${path}.logger`, `unknown logger "${ch.logger}"`);
+    const key = `${ch.logger}/${ch.channel}`;
+    const owner = channels.get(key);
+    if (owner) add(`${path}.channel`, `channel "${ch.channel}" of logger "${ch.logger}" is already used by ${owner}`);
+    else channels.set(key, path.replace(/\.channel$/, ''));
+  };
+  c.gauges.forEach((g, i) => {
+    claimChannel(g.channel, `gauges[${i}].channel`);
+    const vw = g.signal.unit === 'Hz' || g.signal.unit === 'digits';
+    if (g.kind === 'vibrating_wire' && !vw) add(`gauges[${i}].signal.unit`, 'a vibrating-wire gauge reads "Hz" or "digits"');
+    if (g.kind !== 'vibrating_wire' && vw) add(`gauges[${i}].signal.unit`, `a ${g.kind} gauge reads "microstrain" or "mV/V", not "${g.signal.unit}"`);
+    if (g.valid_range && g.valid_range[0] >= g.valid_range[1]) add(`gauges[${i}].valid_range`, 'the lower bound must be below the upper bound');
+  });
+  c.temperature_sensors.forEach((t, i) => claimChannel(t.channel, `temperature_sensors[${i}].channel`));
+
+  const usedBy = new Map<string, string>();
+  c.groups.forEach((grp, gi) => {
+    const base = `groups[${gi}]`;
+    if (!materials.has(grp.material)) add(`${base}.material`, `unknown material "${grp.material}"`);
+    grp.temperature_sensors.forEach((t, ti) => {
+      if (!sensors.has(t)) add(`${base}.temperature_sensors[${ti}]`, `unknown temperature sensor "${t}"`);
+    });
+    const claim = (gaugeId: string, path: string) => {
+      if (!gauges.has(gaugeId)) return add(path, `unknown gauge "${gaugeId}"`);
+      const owner = usedBy.get(gaugeId);
+      if (owner) add(path, `gauge "${gaugeId}" already belongs to ${owner}`);
+      else usedBy.set(gaugeId, base);
+    };
+    const members = grp.elements.map((e, ei) => {
+      claim(e.gauge, `${base}.elements[${ei}].gauge`);
+      return c.gauges[gauges.get(e.gauge) ?? -1];
+    });
+    const companionId = 'companion_gauge' in grp ? grp.companion_gauge : undefined;
+    if (companionId !== undefined) claim(companionId, `${base}.companion_gauge`);
+    const companion = companionId !== undefined ? c.gauges[gauges.get(companionId) ?? -1] : undefined;
+    const present = members.filter((g) => g !== undefined);
+    const loggerIds = new Set(present.map((g) => g.channel.logger));
+    if (loggerIds.size > 1) add(`${base}.elements`, `all elements of a group must be read by one logger (one scan = one strain state); found ${[...loggerIds].join(', ')}`);
+    const zeros = new Set([...present, ...(companion ? [companion] : [])].map((g) => g.zero_temperature_degC));
+    if (zeros.size > 1) add(`${base}.elements`, `all gauges of a group must share one zero_temperature_degC (they share one reference state); found ${[...zeros].join(', ')}`);
+    if (grp.kind === 'solid_cluster') {
+      grp.elements.forEach((e, ei) => {
+        const len = Math.hypot(...e.direction);
+        if (!(len > 1e-9)) add(`${base}.elements[${ei}].direction`, 'the direction must not be the zero vector');
+        const g = members[ei];
+        if (g && g.transverse_sensitivity !== 0) {
+          if (!e.transverse_direction) add(`${base}.elements[${ei}].transverse_direction`, 'required when the gauge has transverse_sensitivity');
+          else {
+            const tl = Math.hypot(...e.transverse_direction);
+            const dot = e.direction.reduce((s, v, k) => s + v * e.transverse_direction![k], 0) / (len * tl);
+            if (!(tl > 1e-9) || Math.abs(dot) > 1e-3) add(`${base}.elements[${ei}].transverse_direction`, 'must be a non-zero vector perpendicular to direction');
+          }
+        }
+      });
+    }
+  });
+  return problems;
+}

@@ -1,0 +1,196 @@
+import { bridgeStrainMicro, gaugeFactorAt } from './bridge.js';
+import {
+  GROUP_PLANE, GROUP_SOLID, SIGNAL_BRIDGE, SIGNAL_MICROSTRAIN, SIGNAL_VW_HZ,
+  type ElementModel, type GroupModel, type GroupOutput,
+} from './group-model.js';
+import { principal2, principal3, tresca3, vonMises2, vonMises6 } from './principal.js';
+import { applyPseudoInverse, pseudoInverseFor, residualRms } from './reduction.js';
+import { thermalOutputMicro, vibratingWireDigits } from './thermal.js';
+
+// Quality bits, in the order of QUALITY_FLAGS (src/model/quality.ts; a test keeps them in step).
+export const BIT_TEMPERATURE_STALE = 1 << 0;
+export const BIT_TEMPERATURE_MISSING = 1 << 1;
+export const BIT_ELEMENT_MISSING = 1 << 2;
+export const BIT_ELEMENT_OUT_OF_RANGE = 1 << 3;
+export const BIT_RESIDUAL_HIGH = 1 << 4;
+export const BIT_COMPANION_MISSING = 1 << 5;
+export const BIT_UNDERDETERMINED = 1 << 6;
+
+/** Indicated strain (microstrain) of one element from its raw reading; tempC may be NaN (no GF correction). */
+export function indicatedStrainMicro(el: ElementModel, raw: number, tempC: number): number {
+  const signal = el.signal;
+  if (signal === SIGNAL_MICROSTRAIN) return raw - el.zero;
+  if (signal === SIGNAL_BRIDGE) {
+    const gf = tempC === tempC ? gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, tempC, el.gfRefTempC) : el.gaugeFactor;
+    return bridgeStrainMicro((raw - el.zero) * 1e-3, gf, el.bridgeCode) * el.leadFactor;
+  }
+  const digits = signal === SIGNAL_VW_HZ ? vibratingWireDigits(raw) : raw;
+  return (digits - el.zero) * el.vwMicroPerDigit;
+}
+
+/**
+ * Total strain along the element's observation row (microstrain): indicated strain less the
+ * gauge's thermal output, plus the free expansion of the body the reading is relative to.
+ */
+export function totalStrainMicro(el: ElementModel, indicated: number, tempC: number, zeroTempC: number): number {
+  const thermalOutput = el.thermalOutput.length > 0 ? thermalOutputMicro(el.thermalOutput, tempC, zeroTempC) : 0;
+  return indicated - thermalOutput + el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
+}
+
+/**
+ * One sample of one group: raw readings (one per element, NaN = missing) and the group
+ * temperature (degC, NaN = missing) to mechanical strain, stress, principal values, equivalent
+ * stresses, residual and quality bits. companionRaw is the companion gauge's reading (NaN if none).
+ * Writes everything into `out`; allocates nothing (a never-seen subset of missing elements is the
+ * one exception: its pseudo-inverse is computed once and cached).
+ */
+export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, companionRaw: number, out: GroupOutput): void {
+  let flags = 0;
+  let t = tempC;
+  if (!(t === t)) {
+    flags |= BIT_TEMPERATURE_MISSING;
+    t = g.zeroTempC; // no thermal correction is possible; the flag says so
+  }
+  out.temperatureC = tempC;
+  const dT = t - g.zeroTempC;
+
+  // Free strain of the host: measured by an unstressed companion gauge when there is one,
+  // otherwise alpha dT from the material (per element, projected on its row below).
+  let freeStrain = Number.NaN;
+  const comp = g.companion;
+  if (comp !== null) {
+    if (companionRaw === companionRaw && companionRaw >= comp.validMin && companionRaw <= comp.validMax) {
+      freeStrain = totalStrainMicro(comp, indicatedStrainMicro(comp, companionRaw, t), t, g.zeroTempC);
+    } else flags |= BIT_COMPANION_MISSING;
+  }
+
+  const m = g.m;
+  const ind = out.elementIndicatedMicro;
+  const app = out.elementApparentMicro;
+  const mech = out.elementMechanicalMicro;
+  let missing = 0;
+  for (let i = 0; i < m; i++) {
+    const el = g.elements[i];
+    const r = raw[i];
+    if (!(r === r) || r === Infinity || r === -Infinity) {
+      missing |= 1 << i;
+      flags |= BIT_ELEMENT_MISSING;
+      ind[i] = app[i] = Number.NaN;
+      mech[i] = 0;
+      continue;
+    }
+    if (r < el.validMin || r > el.validMax) {
+      missing |= 1 << i;
+      flags |= BIT_ELEMENT_OUT_OF_RANGE;
+      ind[i] = app[i] = Number.NaN;
+      mech[i] = 0;
+      continue;
+    }
+    const indicated = indicatedStrainMicro(el, r, t);
+    const total = totalStrainMicro(el, indicated, t, g.zeroTempC);
+    // Stress-producing strain = total strain - free strain (projected on this element's row).
+    const free = freeStrain === freeStrain ? el.rowNormalSum * freeStrain : el.hostExpansionMicroPerDegC * dT;
+    const mechanical = total - free;
+    ind[i] = indicated;
+    mech[i] = mechanical;
+    app[i] = indicated - mechanical; // what temperature alone made this element read
+  }
+
+  const p = pseudoInverseFor(g.reduction, missing);
+  if (p === null) {
+    out.flags = flags | BIT_UNDERDETERMINED;
+    clearResults(out);
+    for (let i = 0; i < m; i++) if ((missing & (1 << i)) !== 0) mech[i] = Number.NaN;
+    return;
+  }
+  const x = applyPseudoInverse(p, mech, m, g.n, out.work.x);
+  const rms = residualRms(g.reduction.obs, mech, x, m, g.n, missing, out.elementResidualMicro);
+  if (rms > g.residualLimitMicro) flags |= BIT_RESIDUAL_HIGH;
+  out.residualRmsMicro = rms;
+  for (let i = 0; i < m; i++) if ((missing & (1 << i)) !== 0) mech[i] = Number.NaN;
+  out.flags = flags;
+
+  if (g.kind === GROUP_PLANE) finishPlane(g, x, out);
+  else if (g.kind === GROUP_SOLID) finishSolid(g, x, out);
+  else finishUniaxial(g, x, out);
+}
+
+function finishPlane(g: GroupModel, x: Float64Array, out: GroupOutput): void {
+  const q = g.stiffness;
+  const sx = (q[0] * x[0] + q[1] * x[1] + q[2] * x[2]) * 1e-6;
+  const sy = (q[3] * x[0] + q[4] * x[1] + q[5] * x[2]) * 1e-6;
+  const txy = (q[6] * x[0] + q[7] * x[1] + q[8] * x[2]) * 1e-6;
+  const e = out.strainMicro;
+  const s = out.stressMPa;
+  e[0] = x[0]; e[1] = x[1]; e[5] = x[2];
+  e[2] = (g.zzCompliance[0] * sx + g.zzCompliance[1] * sy + g.zzCompliance[2] * txy) * 1e6;
+  e[3] = e[4] = Number.NaN;
+  s[0] = sx; s[1] = sy; s[5] = txy;
+  s[2] = s[3] = s[4] = Number.NaN; // plane stress: zero by assumption, not measured
+  const pr = principal2(sx, sy, txy, out.principalMPa);
+  const s1 = pr[0];
+  const s2 = pr[1];
+  out.principalAngleDeg = pr[2];
+  pr[2] = Number.NaN;
+  out.principalDir1.fill(Number.NaN);
+  out.vonMisesMPa = vonMises2(sx, sy, txy);
+  out.trescaMPa = tresca3(s1, s2, 0); // the free surface's zero normal stress is the third principal
+  out.maxShearMPa = 0.5 * out.trescaMPa;
+  out.axialStrainMicro = out.axialStressMPa = Number.NaN;
+  ratios(g, out, Math.max(s1, 0), Math.max(-s2, 0));
+}
+
+function finishSolid(g: GroupModel, x: Float64Array, out: GroupOutput): void {
+  const c = g.stiffness;
+  const s = out.stressMPa;
+  const e = out.strainMicro;
+  for (let i = 0; i < 6; i++) {
+    let acc = 0;
+    for (let j = 0; j < 6; j++) acc += c[i * 6 + j] * x[j];
+    s[i] = acc * 1e-6;
+    e[i] = x[i];
+  }
+  const pr = out.principalMPa;
+  principal3(s, pr, out.work.dirs, out.work.w9);
+  out.principalDir1[0] = out.work.dirs[0];
+  out.principalDir1[1] = out.work.dirs[1];
+  out.principalDir1[2] = out.work.dirs[2];
+  out.principalAngleDeg = Number.NaN;
+  out.vonMisesMPa = vonMises6(s);
+  out.trescaMPa = pr[0] - pr[2];
+  out.maxShearMPa = 0.5 * out.trescaMPa;
+  out.axialStrainMicro = out.axialStressMPa = Number.NaN;
+  ratios(g, out, Math.max(pr[0], 0), Math.max(-pr[2], 0));
+}
+
+function finishUniaxial(g: GroupModel, x: Float64Array, out: GroupOutput): void {
+  const sigma = g.stiffness[0] * x[0] * 1e-6;
+  out.strainMicro.fill(Number.NaN);
+  out.stressMPa.fill(Number.NaN);
+  out.strainMicro[0] = x[0];
+  out.stressMPa[0] = sigma;
+  out.axialStrainMicro = x[0];
+  out.axialStressMPa = sigma;
+  out.principalMPa.fill(Number.NaN);
+  out.principalDir1.fill(Number.NaN);
+  out.principalAngleDeg = Number.NaN;
+  out.vonMisesMPa = out.trescaMPa = Math.abs(sigma);
+  out.maxShearMPa = 0.5 * Math.abs(sigma);
+  ratios(g, out, Math.max(sigma, 0), Math.max(-sigma, 0));
+}
+
+function ratios(g: GroupModel, out: GroupOutput, tension: number, compression: number): void {
+  out.ratioVonMisesToYield = out.vonMisesMPa / g.yieldMPa; // NaN when no capacity is configured
+  out.ratioTensionToTensile = tension / g.tensileMPa;
+  out.ratioCompressionToCompressive = compression / g.compressiveMPa;
+}
+
+function clearResults(out: GroupOutput): void {
+  out.strainMicro.fill(Number.NaN);
+  out.stressMPa.fill(Number.NaN);
+  out.principalMPa.fill(Number.NaN);
+  out.principalDir1.fill(Number.NaN);
+  out.principalAngleDeg = out.vonMisesMPa = out.trescaMPa = out.maxShearMPa = Number.NaN;
+  out.axialStrainMicro = out.axialStressMPa = out.residualRmsMicro = Number.NaN;
+  out.ratioVonMisesToYield = out.ratioTensionToTensile = out.ratioCompressionToCompressive = Number.NaN;
+}

@@ -1,0 +1,110 @@
+import { Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { toMatrix } from './stiffness.js';
+
+/**
+ * Least-squares reduction of a gauge group: element readings e (m) = A (m x n) x + noise, where x
+ * is the group's strain state (n = 3 plane, 6 solid, 1 uniaxial). A's rows are the elements'
+ * observation rows with the transverse-sensitivity correction folded in.
+ *
+ * The pseudo-inverse is computed once per set of usable elements at configuration time (ml-matrix
+ * SVD); per sample the work is one n x m product into preallocated arrays. A missing element is a
+ * zero column in its set's pseudo-inverse, so one code path serves every subset.
+ */
+export interface Reduction {
+  readonly m: number;
+  readonly n: number;
+  /** Observation matrix, row-major m x n. */
+  readonly obs: Float64Array;
+  /** Pseudo-inverses (n x m, row-major) by bitmask of MISSING elements; null = underdetermined. */
+  readonly byMissingMask: Map<number, Float64Array | null>;
+}
+
+/** Condition number beyond which a subset is treated as unable to determine the state. */
+const MAX_CONDITION = 1e8;
+
+/** Builds the reduction and precomputes the full set and every single-missing subset. */
+export function buildReduction(obs: Float64Array, m: number, n: number): Reduction {
+  if (obs.length !== m * n) throw new RangeError(`observation matrix has ${obs.length} entries, expected ${m}x${n}`);
+  if (m > 30) throw new RangeError(`a group may have at most 30 elements, got ${m}`);
+  const red: Reduction = { m, n, obs, byMissingMask: new Map() };
+  red.byMissingMask.set(0, maskedPseudoInverse(obs, m, n, 0));
+  for (let i = 0; i < m; i++) red.byMissingMask.set(1 << i, maskedPseudoInverse(obs, m, n, 1 << i));
+  return red;
+}
+
+/**
+ * Pseudo-inverse for the elements not in `missingMask`. Cached; a subset never seen before is
+ * computed on first use (rare: two or more elements failing at once) and kept.
+ */
+export function pseudoInverseFor(red: Reduction, missingMask: number): Float64Array | null {
+  let p = red.byMissingMask.get(missingMask);
+  if (p === undefined) {
+    p = maskedPseudoInverse(red.obs, red.m, red.n, missingMask);
+    red.byMissingMask.set(missingMask, p);
+  }
+  return p;
+}
+
+/** n x m pseudo-inverse of the rows of A that are not masked out; zero columns for masked rows. */
+export function maskedPseudoInverse(obs: Float64Array, m: number, n: number, missingMask: number): Float64Array | null {
+  const rows: number[] = [];
+  for (let i = 0; i < m; i++) if ((missingMask & (1 << i)) === 0) rows.push(i);
+  if (rows.length < n) return null;
+  const a = new Matrix(rows.length, n);
+  rows.forEach((r, k) => {
+    for (let j = 0; j < n; j++) a.set(k, j, obs[r * n + j]);
+  });
+  const svd = new SingularValueDecomposition(a, { autoTranspose: true });
+  if (!(svd.condition < MAX_CONDITION)) return null;
+  const pinv = svd.inverse(); // n x rows.length
+  const out = new Float64Array(n * m);
+  rows.forEach((r, k) => {
+    for (let j = 0; j < n; j++) out[j * m + r] = pinv.get(j, k);
+  });
+  return out;
+}
+
+/** x (n) = P (n x m) e (m). Mutates and returns x. Entries of e at missing elements are ignored (zero columns). */
+export function applyPseudoInverse(p: Float64Array, e: Float64Array, m: number, n: number, x: Float64Array): Float64Array {
+  for (let j = 0; j < n; j++) {
+    let acc = 0;
+    const base = j * m;
+    for (let i = 0; i < m; i++) acc += p[base + i] * e[i];
+    x[j] = acc;
+  }
+  return x;
+}
+
+/**
+ * Root-mean-square least-squares residual over the used elements, sqrt(sum r_i^2 / (used - n)),
+ * microstrain when e is. Writes each element's residual into r (0 for missing ones). Returns NaN
+ * when the group has no redundancy (used <= n): the fit is then exact and says nothing.
+ */
+export function residualRms(
+  obs: Float64Array, e: Float64Array, x: Float64Array, m: number, n: number, missingMask: number, r: Float64Array,
+): number {
+  let sum = 0;
+  let used = 0;
+  for (let i = 0; i < m; i++) {
+    if ((missingMask & (1 << i)) !== 0) {
+      r[i] = 0;
+      continue;
+    }
+    let fit = 0;
+    for (let j = 0; j < n; j++) fit += obs[i * n + j] * x[j];
+    const ri = e[i] - fit;
+    r[i] = ri;
+    sum += ri * ri;
+    used++;
+  }
+  return used > n ? Math.sqrt(sum / (used - n)) : Number.NaN;
+}
+
+/** Reference path (naive, allocates): solve the least-squares system with ml-matrix per call. */
+export function solveLeastSquaresNaive(obs: Float64Array, e: Float64Array, m: number, n: number): Float64Array {
+  const a = toMatrix(obs, m, n);
+  const b = Matrix.columnVector(Array.from(e));
+  const at = a.transpose();
+  const x = new SingularValueDecomposition(at.mmul(a)).solve(at.mmul(b));
+  return Float64Array.from(x.to1DArray());
+}

@@ -1,0 +1,31 @@
+/**
+ * Quality flags attached to every result. A result with no flag is `good`; any flag makes it
+ * doubtful, and doubtful results never raise structural alarms on their own (they raise the
+ * instrument-health alarm that explains them).
+ */
+export const QUALITY_FLAGS = [
+  'temperature_stale', // the temperature used is older than the group's max age (last value used)
+  'temperature_missing', // no usable temperature: computed at the zero-reading temperature
+  'element_missing', // an element had no reading; a redundant group was reduced without it
+  'element_out_of_range', // an element reading outside its configured valid range (open circuit...)
+  'residual_high', // redundant group: least-squares residual above the group's limit
+  'companion_missing', // the unstressed companion gauge had no reading
+  'underdetermined', // too few elements left to determine the strain state: no result values
+] as const;
+
+export type QualityFlag = (typeof QUALITY_FLAGS)[number];
+
+/** Bit for each flag, for compact storage (field `quality_bits`). */
+export function qualityBit(flag: QualityFlag): number {
+  return 1 << QUALITY_FLAGS.indexOf(flag);
+}
+
+export function qualityBits(flags: readonly QualityFlag[]): number {
+  let bits = 0;
+  for (const f of flags) bits |= qualityBit(f);
+  return bits;
+}
+
+export function flagsFromBits(bits: number): QualityFlag[] {
+  return QUALITY_FLAGS.filter((_, i) => (bits & (1 << i)) !== 0);
+}

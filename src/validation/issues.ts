@@ -36,6 +36,8 @@ function received(input: unknown): string {
 
 /** Reason text for one zod issue (zod 4 issue shapes; `input` is present when parsed with reportInput). */
 export function describeIssue(issue: z.core.$ZodIssue): string {
+  // A message written in the schema (e.g. `.lt(0.5, 'Poisson ratio must be < 0.5')`) says it best.
+  if (!/^(Invalid|Too |Unrecognized)/.test(issue.message)) return issue.message;
   switch (issue.code) {
     case 'invalid_type':
       return `expected ${ARTICLE[issue.expected] ?? issue.expected}, received ${received(issue.input)}`;

@@ -2,7 +2,7 @@ import { BRIDGE_CODE, leadWireFactor } from '../mechanics/bridge.js';
 import {
   SIGNAL_BRIDGE, SIGNAL_MICROSTRAIN, SIGNAL_VW_DIGITS, SIGNAL_VW_HZ, type ElementModel,
 } from '../mechanics/group-model.js';
-import { vibratingWireDigits } from '../mechanics/thermal.js';
+import { horner, vibratingWireDigits } from '../mechanics/thermal.js';
 import type { GaugeConfig } from './gauge-schema.js';
 
 /**
@@ -32,6 +32,7 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
     leadFactor: 1,
     vwMicroPerDigit: 0,
     thermalOutput: new Float64Array(0),
+    thermalOutputAtZeroMicro: 0,
     // A self-compensated gauge with no published curve is taken as matched to its host:
     // its reading is then already mechanical strain.
     referenceExpansionMicroPerDegC: hostExpansion * 1e6,
@@ -39,6 +40,7 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
     rowNormalSum,
     validMin: gauge.valid_range ? gauge.valid_range[0] : -Infinity,
     validMax: gauge.valid_range ? gauge.valid_range[1] : Infinity,
+    thermalTwin: -1,
   };
   if (sig.unit === 'mV/V') {
     el.signal = SIGNAL_BRIDGE;
@@ -59,7 +61,24 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
     // The curve was recorded with to.gauge_factor; a reading taken with another factor scales by their ratio.
     const scale = to.gauge_factor !== undefined && sig.unit === 'mV/V' ? to.gauge_factor / sig.gauge_factor : 1;
     el.thermalOutput = Float64Array.from(to.coefficients_micro, (c) => c * scale);
+    el.thermalOutputAtZeroMicro = horner(el.thermalOutput, gauge.zero_temperature_degC);
     el.referenceExpansionMicroPerDegC = to.characterised_on_alpha_per_degC * rowNormalSum * 1e6;
   }
   return el;
+}
+
+/** True when two elements respond identically to temperature (same gauge batch, same row sums). */
+export function sameTemperatureModel(a: ElementModel, b: ElementModel): boolean {
+  return a.signal === b.signal && a.gaugeFactor === b.gaugeFactor && a.gfTempCoeff === b.gfTempCoeff
+    && a.gfRefTempC === b.gfRefTempC && a.thermalOutputAtZeroMicro === b.thermalOutputAtZeroMicro
+    && a.referenceExpansionMicroPerDegC === b.referenceExpansionMicroPerDegC
+    && a.hostExpansionMicroPerDegC === b.hostExpansionMicroPerDegC && a.rowNormalSum === b.rowNormalSum
+    && a.thermalOutput.length === b.thermalOutput.length && a.thermalOutput.every((c, k) => c === b.thermalOutput[k]);
+}
+
+/** Marks each element's thermal twin: the first earlier element with the same temperature model. */
+export function linkThermalTwins(elements: ElementModel[]): void {
+  elements.forEach((el, i) => {
+    el.thermalTwin = elements.findIndex((other, j) => j < i && other.thermalTwin === -1 && sameTemperatureModel(el, other));
+  });
 }

@@ -5,7 +5,7 @@ import { buildReduction } from '../mechanics/reduction.js';
 import { invertSquare, planeStressCompliance } from '../mechanics/stiffness.js';
 import { normalStrainRow2, normalStrainRow3, ZZ, XX, YY, XY } from '../mechanics/voigt.js';
 import type { MaterialModel } from './compile-material.js';
-import { compileElement } from './compile-element.js';
+import { compileElement, linkThermalTwins } from './compile-element.js';
 import type { GaugeConfig } from './gauge-schema.js';
 import type { GroupConfig } from './group-schema.js';
 
@@ -89,6 +89,7 @@ export function compileGroup(
       hostAlpha = planeAlpha.subarray(0, 1);
     }
   }
+  linkThermalTwins(elements);
   const reduction = buildReduction(obs, m, n);
   if (reduction.byMissingMask.get(0) === null) return null;
   const zero = gauges[0].zero_temperature_degC;

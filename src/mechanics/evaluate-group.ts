@@ -5,7 +5,7 @@ import {
 } from './group-model.js';
 import { principal2, principal3, tresca3, vonMises2, vonMises6 } from './principal.js';
 import { applyPseudoInverse, pseudoInverseFor, residualRms } from './reduction.js';
-import { thermalOutputMicro, vibratingWireDigits } from './thermal.js';
+import { horner, vibratingWireDigits } from './thermal.js';
 
 // Quality bits, in the order of QUALITY_FLAGS (src/model/quality.ts; a test keeps them in step).
 export const BIT_TEMPERATURE_STALE = 1 << 0;
@@ -18,12 +18,15 @@ export const BIT_UNDERDETERMINED = 1 << 6;
 
 /** Indicated strain (microstrain) of one element from its raw reading; tempC may be NaN (no GF correction). */
 export function indicatedStrainMicro(el: ElementModel, raw: number, tempC: number): number {
+  const gf = tempC === tempC ? gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, tempC, el.gfRefTempC) : el.gaugeFactor;
+  return indicatedWithFactor(el, raw, gf);
+}
+
+/** Indicated strain (microstrain) with the gauge factor already taken at the sample's temperature. */
+export function indicatedWithFactor(el: ElementModel, raw: number, gaugeFactor: number): number {
   const signal = el.signal;
   if (signal === SIGNAL_MICROSTRAIN) return raw - el.zero;
-  if (signal === SIGNAL_BRIDGE) {
-    const gf = tempC === tempC ? gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, tempC, el.gfRefTempC) : el.gaugeFactor;
-    return bridgeStrainMicro((raw - el.zero) * 1e-3, gf, el.bridgeCode) * el.leadFactor;
-  }
+  if (signal === SIGNAL_BRIDGE) return bridgeStrainMicro((raw - el.zero) * 1e-3, gaugeFactor, el.bridgeCode) * el.leadFactor;
   const digits = signal === SIGNAL_VW_HZ ? vibratingWireDigits(raw) : raw;
   return (digits - el.zero) * el.vwMicroPerDigit;
 }
@@ -33,7 +36,7 @@ export function indicatedStrainMicro(el: ElementModel, raw: number, tempC: numbe
  * gauge's thermal output, plus the free expansion of the body the reading is relative to.
  */
 export function totalStrainMicro(el: ElementModel, indicated: number, tempC: number, zeroTempC: number): number {
-  const thermalOutput = el.thermalOutput.length > 0 ? thermalOutputMicro(el.thermalOutput, tempC, zeroTempC) : 0;
+  const thermalOutput = el.thermalOutput.length > 0 ? horner(el.thermalOutput, tempC) - el.thermalOutputAtZeroMicro : 0;
   return indicated - thermalOutput + el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
 }
 
@@ -68,11 +71,26 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
   const ind = out.elementIndicatedMicro;
   const app = out.elementApparentMicro;
   const mech = out.elementMechanicalMicro;
+  const gfAt = out.work.gaugeFactor;
+  const thermalAt = out.work.thermalMicro;
   let missing = 0;
   for (let i = 0; i < m; i++) {
     const el = g.elements[i];
+    // Temperature-only terms: gauge factor at t, and what temperature does to the reading
+    // (thermal output, reference expansion, less the host's free strain). Gauges of one batch
+    // share them, so a twin reuses the first one's values.
+    const twin = el.thermalTwin;
+    if (twin >= 0) {
+      gfAt[i] = gfAt[twin];
+      thermalAt[i] = thermalAt[twin];
+    } else {
+      gfAt[i] = el.gfTempCoeff === 0 ? el.gaugeFactor : gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, t, el.gfRefTempC);
+      const thermalOutput = el.thermalOutput.length > 0 ? horner(el.thermalOutput, t) - el.thermalOutputAtZeroMicro : 0;
+      const free = freeStrain === freeStrain ? el.rowNormalSum * freeStrain : el.hostExpansionMicroPerDegC * dT;
+      thermalAt[i] = el.referenceExpansionMicroPerDegC * dT - thermalOutput - free;
+    }
     const r = raw[i];
-    if (!(r === r) || r === Infinity || r === -Infinity) {
+    if (r - r !== 0) { // NaN or +-Infinity
       missing |= 1 << i;
       flags |= BIT_ELEMENT_MISSING;
       ind[i] = app[i] = Number.NaN;
@@ -86,17 +104,16 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
       mech[i] = 0;
       continue;
     }
-    const indicated = indicatedStrainMicro(el, r, t);
-    const total = totalStrainMicro(el, indicated, t, g.zeroTempC);
-    // Stress-producing strain = total strain - free strain (projected on this element's row).
-    const free = freeStrain === freeStrain ? el.rowNormalSum * freeStrain : el.hostExpansionMicroPerDegC * dT;
-    const mechanical = total - free;
+    const indicated = indicatedWithFactor(el, r, gfAt[i]);
+    // Stress-producing strain = total strain - free strain, both along this element's row:
+    // total = indicated - thermal output + reference expansion; free = companion or alpha dT.
+    const mechanical = indicated + thermalAt[i];
     ind[i] = indicated;
     mech[i] = mechanical;
-    app[i] = indicated - mechanical; // what temperature alone made this element read
+    app[i] = -thermalAt[i]; // what temperature alone made this element read
   }
 
-  const p = pseudoInverseFor(g.reduction, missing);
+  const p = missing === 0 ? g.reduction.full : pseudoInverseFor(g.reduction, missing);
   if (p === null) {
     out.flags = flags | BIT_UNDERDETERMINED;
     clearResults(out);
@@ -104,7 +121,8 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
     return;
   }
   const x = applyPseudoInverse(p, mech, m, g.n, out.work.x);
-  const rms = residualRms(g.reduction.obs, mech, x, m, g.n, missing, out.elementResidualMicro);
+  // Without redundancy the fit is exact: skip the residual (NaN says "not applicable").
+  const rms = m > g.n ? residualRms(g.reduction.obs, mech, x, m, g.n, missing, out.elementResidualMicro) : Number.NaN;
   if (rms > g.residualLimitMicro) flags |= BIT_RESIDUAL_HIGH;
   out.residualRmsMicro = rms;
   for (let i = 0; i < m; i++) if ((missing & (1 << i)) !== 0) mech[i] = Number.NaN;
@@ -132,7 +150,8 @@ function finishPlane(g: GroupModel, x: Float64Array, out: GroupOutput): void {
   const s2 = pr[1];
   out.principalAngleDeg = pr[2];
   pr[2] = Number.NaN;
-  out.principalDir1.fill(Number.NaN);
+  const d = out.principalDir1;
+  d[0] = d[1] = d[2] = Number.NaN;
   out.vonMisesMPa = vonMises2(sx, sy, txy);
   out.trescaMPa = tresca3(s1, s2, 0); // the free surface's zero normal stress is the third principal
   out.maxShearMPa = 0.5 * out.trescaMPa;

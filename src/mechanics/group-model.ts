@@ -29,6 +29,8 @@ export interface ElementModel {
   vwMicroPerDigit: number;
   /** Thermal-output polynomial (microstrain vs degC) rescaled to the gauge factor; empty = none. */
   thermalOutput: Float64Array;
+  /** The polynomial's value at the zero-reading temperature (it is referenced to it), microstrain. */
+  thermalOutputAtZeroMicro: number;
   /**
    * Free expansion of the reference body the reading is relative to, projected on this element's
    * observation row, microstrain per degC: the material the thermal output was characterised on
@@ -41,6 +43,8 @@ export interface ElementModel {
   rowNormalSum: number;
   validMin: number;
   validMax: number;
+  /** Index of an earlier element of the group with the identical temperature model, or -1. */
+  thermalTwin: number;
 }
 
 export const GROUP_PLANE = 0;
@@ -99,7 +103,7 @@ export interface GroupOutput {
   elementMechanicalMicro: Float64Array;
   elementResidualMicro: Float64Array;
   /** Scratch. */
-  work: { x: Float64Array; dirs: Float64Array; w9: Float64Array; s6: Float64Array };
+  work: { x: Float64Array; dirs: Float64Array; w9: Float64Array; gaugeFactor: Float64Array; thermalMicro: Float64Array };
 }
 
 export function createGroupOutput(m: number): GroupOutput {
@@ -124,6 +128,9 @@ export function createGroupOutput(m: number): GroupOutput {
     elementApparentMicro: new Float64Array(m),
     elementMechanicalMicro: new Float64Array(m),
     elementResidualMicro: new Float64Array(m),
-    work: { x: new Float64Array(6), dirs: new Float64Array(9), w9: new Float64Array(9), s6: new Float64Array(6) },
+    work: {
+      x: new Float64Array(6), dirs: new Float64Array(9), w9: new Float64Array(9),
+      gaugeFactor: new Float64Array(m), thermalMicro: new Float64Array(m),
+    },
   };
 }

@@ -15,6 +15,8 @@ export interface Reduction {
   readonly n: number;
   /** Observation matrix, row-major m x n. */
   readonly obs: Float64Array;
+  /** Pseudo-inverse of the full set (the common case, kept out of the map lookup); null = underdetermined. */
+  readonly full: Float64Array | null;
   /** Pseudo-inverses (n x m, row-major) by bitmask of MISSING elements; null = underdetermined. */
   readonly byMissingMask: Map<number, Float64Array | null>;
 }
@@ -26,8 +28,8 @@ const MAX_CONDITION = 1e8;
 export function buildReduction(obs: Float64Array, m: number, n: number): Reduction {
   if (obs.length !== m * n) throw new RangeError(`observation matrix has ${obs.length} entries, expected ${m}x${n}`);
   if (m > 30) throw new RangeError(`a group may have at most 30 elements, got ${m}`);
-  const red: Reduction = { m, n, obs, byMissingMask: new Map() };
-  red.byMissingMask.set(0, maskedPseudoInverse(obs, m, n, 0));
+  const full = maskedPseudoInverse(obs, m, n, 0);
+  const red: Reduction = { m, n, obs, full, byMissingMask: new Map([[0, full]]) };
   for (let i = 0; i < m; i++) red.byMissingMask.set(1 << i, maskedPseudoInverse(obs, m, n, 1 << i));
   return red;
 }

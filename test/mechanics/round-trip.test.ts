@@ -17,10 +17,10 @@ const ORTHO = {
 };
 const CONCRETE = { id: 'concrete', kind: 'isotropic', E_MPa: 33000, nu: 0.2, alpha_per_degC: 10e-6, tensile_strength_MPa: 2.9 };
 
-function bridgeGauge(id: string, ch: string, zero: number) {
+function bridgeGauge(id: string, ch: string, zero: number, gaugeFactor = 2.08) {
   return {
     id, kind: 'bonded_foil', channel: { logger: 'lg', channel: ch },
-    signal: { unit: 'mV/V', gauge_factor: 2.08, bridge: 'quarter', lead_resistance_ohm: 2.4, gauge_factor_temp_coeff_per_degC: 9e-5 },
+    signal: { unit: 'mV/V', gauge_factor: gaugeFactor, bridge: 'quarter', lead_resistance_ohm: 2.4, gauge_factor_temp_coeff_per_degC: 9e-5 },
     zero_reading: zero, zero_temperature_degC: 12, transverse_sensitivity: 0.012,
     thermal_output: { coefficients_micro: [-24, 1.8, -0.045, 0.00025], characterised_on_alpha_per_degC: 10.8e-6, gauge_factor: 2.0 },
   };
@@ -36,7 +36,8 @@ function vwGauge(id: string, ch: string, zero: number) {
 
 function planeDoc(material: { id: string }) {
   const angles = [0, 60, 120, 30];
-  const gauges = angles.map((_, i) => bridgeGauge(`g${i}`, `c${i}`, 0.01 * i));
+  // Two gauge batches (different gauge factors): elements share temperature terms only within a batch.
+  const gauges = angles.map((_, i) => bridgeGauge(`g${i}`, `c${i}`, 0.01 * i, i % 2 === 0 ? 2.08 : 2.13));
   return baseDoc([{
     id: 'p', kind: 'plane_rosette', material: material.id, zone: 'z', location: 'bench',
     elements: angles.map((a, i) => ({ gauge: `g${i}`, angle_deg: a })),

@@ -1,0 +1,20 @@
+import { Command } from 'commander';
+import { calcCommand } from './commands/calc.js';
+import { exitCodeFor } from './errors.js';
+
+/** Composition root of the command line: commands are wired here; errors become exit codes here only. */
+export async function main(argv: string[]): Promise<number> {
+  const program = new Command('strainward')
+    .description('strain-gauge readings to temperature-compensated stresses, principal values and alarms')
+    .exitOverride()
+    .addCommand(calcCommand());
+  try {
+    await program.parseAsync(argv);
+    return 0;
+  } catch (err) {
+    const e = err as { code?: string; exitCode?: number; message?: string };
+    if (typeof e.code === 'string' && e.code.startsWith('commander.')) return e.exitCode ?? 2;
+    process.stderr.write(`strainward: ${e.message ?? String(err)}\n`);
+    return exitCodeFor(err);
+  }
+}

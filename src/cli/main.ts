@@ -1,5 +1,6 @@
 import { Command } from 'commander';
 import { calcCommand } from './commands/calc.js';
+import { runCommand } from './commands/run.js';
 import { exitCodeFor } from './errors.js';
 
 /** Composition root of the command line: commands are wired here; errors become exit codes here only. */
@@ -7,7 +8,8 @@ export async function main(argv: string[]): Promise<number> {
   const program = new Command('strainward')
     .description('strain-gauge readings to temperature-compensated stresses, principal values and alarms')
     .exitOverride()
-    .addCommand(calcCommand());
+    .addCommand(calcCommand())
+    .addCommand(runCommand());
   try {
     await program.parseAsync(argv);
     return 0;

@@ -1,0 +1,33 @@
+#!/usr/bin/env bash
+# The one test command: system packages the integration tests need, dependencies, type check, tests.
+# Integration tests start real mosquitto and victoria-metrics servers (Debian packages) on loopback.
+set -euo pipefail
+cd "$(dirname "${BASH_SOURCE[0]}")/.."
+
+have() { # have <binary> <absolute path>: on PATH, or at the Debian package's path (/usr/sbin is often off PATH)
+  command -v "$1" >/dev/null 2>&1 || [ -x "$2" ]
+}
+
+missing=()
+have mosquitto /usr/sbin/mosquitto || missing+=(mosquitto)
+have victoria-metrics /usr/bin/victoria-metrics || missing+=(victoria-metrics)
+if [ "${STRAINWARD_NEED_BROWSER:-0}" = "1" ]; then
+  have chromium /usr/bin/chromium || missing+=(chromium)
+fi
+
+if [ "${#missing[@]}" -gt 0 ]; then
+  if [ "$(id -u)" = "0" ]; then
+    echo "test.sh: installing ${missing[*]}"
+    apt-get update
+    DEBIAN_FRONTEND=noninteractive apt-get install -y --no-install-recommends "${missing[@]}"
+  else
+    echo "test.sh: missing system packages: ${missing[*]}" >&2
+    echo "Run as root, then run this script again:" >&2
+    echo "  apt-get update && DEBIAN_FRONTEND=noninteractive apt-get install -y --no-install-recommends ${missing[*]}" >&2
+    exit 1
+  fi
+fi
+
+npm ci
+npx tsc --noEmit -p .
+npx vitest run

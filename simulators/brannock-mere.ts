@@ -1,0 +1,57 @@
+/**
+ * Simulator of the Brannock Mere Crossing's edge loggers (composition root: the only place that
+ * reads the wall clock). Usage: npx tsx simulators/brannock-mere.ts --help
+ */
+import { join } from 'node:path';
+import { setTimeout as sleep } from 'node:timers/promises';
+import { Command } from 'commander';
+import { ConfigError } from '../src/config/compile.js';
+import { loadStructureFile } from '../src/config/load.js';
+import { defaultScenario } from './default-scenario.js';
+import { captureSink, messagesFileSink, mqttSink, runSimulation, type ScanSink } from './outputs.js';
+import { createSimulation } from './run.js';
+import { CliOptionsSchema } from './cli-options.js';
+import { FAULT_KINDS } from './scenario.js';
+
+const program = new Command('brannock-mere')
+  .description('Simulated loggers of the invented Brannock Mere Crossing: true stresses, readings, faults')
+  .option('--config <path>', 'structure configuration', 'config/brannock-mere.yaml')
+  .option('--seed <n>', 'seed: the same seed gives the same output', '1')
+  .option('--start <iso>', 'start of the run, ISO 8601 with zone', '2025-06-01T06:00:00Z')
+  .option('--duration-s <s>', 'length of the run, logger seconds', '600')
+  .option('--day-s <s>', 'logger seconds per scenario day (86400 = real time)', '86400')
+  .option('--rate-factor <x>', 'scan rates are the configured ones times this', '1')
+  .option('--speed <x>', 'publish at this many scenario seconds per wall second; 0 = as fast as possible', '0')
+  .option('--faults <list>', `comma list of ${FAULT_KINDS.join(', ')}; or all, none`, 'all')
+  .option('--no-noise', 'exact readings (no noise, no quantisation)')
+  .option('--broker <url>', 'publish to this MQTT broker (QoS 1), e.g. mqtt://127.0.0.1:1883')
+  .option('--capture-dir <dir>', 'write the messages into a capture directory')
+  .option('--messages', 'write messages.ndjson into --out as well', false)
+  .option('--out <dir>', 'directory for truth.ndjson, fault-log.json, scenario.json', 'var/sim-out');
+
+async function main(): Promise<number> {
+  program.parse();
+  const parsed = CliOptionsSchema.safeParse(program.opts());
+  if (!parsed.success) {
+    for (const i of parsed.error.issues) console.error(`--${String(i.path[0] ?? '').replace(/[A-Z]/g, (c) => `-${c.toLowerCase()}`)}: ${i.message}`);
+    return 2;
+  }
+  const o = parsed.data;
+  const structure = await loadStructureFile(o.config);
+  const scn = defaultScenario({
+    seed: o.seed, start_ms: o.start, duration_s: o.durationS, day_s: o.dayS, rate_factor: o.rateFactor, faults: o.faults, noise: o.noise,
+  });
+  const sim = createSimulation(structure, scn);
+  const sinks: ScanSink[] = [];
+  if (o.broker) sinks.push(await mqttSink(o.broker));
+  if (o.captureDir) sinks.push(await captureSink(o.captureDir));
+  if (o.messages || sinks.length === 0) sinks.push(messagesFileSink(join(o.out, 'messages.ndjson')));
+  const summary = await runSimulation(sim, scn, { outDir: o.out, sinks, speed: o.speed, now: () => Date.now(), sleep: (ms) => sleep(ms) });
+  console.log(JSON.stringify({ ...summary, faults: sim.faultLog.map((f) => f.id), out: o.out }));
+  return 0;
+}
+
+main().then((code) => { process.exitCode = code; }, (err: unknown) => {
+  console.error(err instanceof ConfigError ? err.message : err);
+  process.exitCode = err instanceof ConfigError ? 3 : 1;
+});

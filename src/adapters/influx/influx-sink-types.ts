@@ -1,0 +1,33 @@
+/** Options and status of the database sink (see influx-sink.ts). */
+import type { Spool } from '../spool/spool.js';
+import type { InfluxTarget } from './post-lines.js';
+import type { RetryPolicy } from './send-with-retry.js';
+
+export interface InfluxSinkOptions extends InfluxTarget, RetryPolicy {
+  /** Flush when this many lines are pending. */
+  batchSize: number;
+  /** Flush pending lines at most this long after the first arrived (ms). */
+  flushInterval_ms: number;
+  /** The spool (opened by the caller, so a restarted process finds its old segments). */
+  spool: Spool;
+  /** Clock for the refused-lines file name (epoch ms). Default Date.now. */
+  now?: () => number;
+}
+
+/** Snapshot of the sink's state. Counters are since construction. */
+export interface InfluxSinkStatus {
+  /** Points accepted by `write` and not yet durable. */
+  queuedPoints: number;
+  spoolBytes: number;
+  spoolLimitBytes: number;
+  spoolFillRatio: number;
+  /** Result of the latest write attempt; null before the first. */
+  dbReachable: boolean | null;
+  writtenPoints: number;
+  spooledPoints: number;
+  /** Deleted by the spool's `drop_oldest` policy. */
+  droppedPoints: number;
+  refusedPoints: number;
+  /** Redacted message of the latest failure; null before any. */
+  lastError: string | null;
+}

@@ -1,0 +1,210 @@
+import { readFileSync } from 'node:fs';
+import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
+import { Observable, Subject } from 'rxjs';
+import type { RawMessage } from '../../model/raw-message.js';
+import { OrderedAckQueue } from './ack-queue.js';
+import { mqttConnectionOptionsSchema, nextReconnectDelay_ms, type MqttConnectionOptions, type MqttConnectionOptionsInput } from './options.js';
+
+/** A received message and its acknowledgement: call `ack()` once the message is safely handled. */
+export interface InboundMessage {
+  raw: RawMessage;
+  /** Release this message's PUBACK (in arrival order). Idempotent; a no-op for QoS 0 and after a reconnect. */
+  ack(): void;
+}
+
+export interface PublishOptions {
+  qos: 0 | 1 | 2;
+  retain: boolean;
+}
+
+/** Publish a payload; resolves when the broker has it (PUBACK for QoS 1) or, for QoS 0, when written. */
+export type Publish = (topic: string, payload: string | Uint8Array, options?: Partial<PublishOptions>) => Promise<void>;
+
+export interface MqttConnectionStats {
+  connects: number;
+  reconnectAttempts: number;
+  /** Messages received whose PUBACK is still held. */
+  heldAcks: number;
+  /** Current reconnect delay, ms. */
+  reconnectDelay_ms: number;
+}
+
+export interface MqttConnection {
+  /** Hot stream of inbound messages; messages arriving before the first subscriber are kept for it. */
+  readonly messages$: Observable<InboundMessage>;
+  /** The protocol actually spoken: 5, or 4 (3.1.1) after a fallback. */
+  readonly protocolVersion: 4 | 5;
+  readonly publish: Publish;
+  stats(): MqttConnectionStats;
+  /** Graceful DISCONNECT. Unacked messages stay in the broker's session for the next start. */
+  close(): Promise<void>;
+  /** Drop the connection without DISCONNECT, as a crash would (the session and unacked messages stay). */
+  abandon(): void;
+}
+
+export interface MqttDeps {
+  /** Clock for arrivalMs, epoch ms. */
+  now: () => number;
+  /** Connection events for the log. */
+  log?: (event: string, detail?: Record<string, unknown>) => void;
+}
+
+/** Broker refusals that mean "I do not speak MQTT 5": 1 (3.1.1 CONNACK return code), 0x84 (MQTT 5 reason code). */
+const UNSUPPORTED_PROTOCOL = new Set([1, 0x84]);
+/** Marks the PUBACKs the ack queue releases, as opposed to the ones mqtt.js sends by itself. */
+const RELEASED = Symbol('strainward.released-puback');
+
+/**
+ * Connect to the broker: MQTT 5 first, 3.1.1 if the broker refuses 5 (and fallback is allowed).
+ * Resolves once connected and subscribed; rejects on a refusal (bad credentials...) or invalid
+ * options. Network failures before the first connection are retried with backoff, so it waits.
+ */
+export async function connectMqtt(input: MqttConnectionOptionsInput, deps: MqttDeps): Promise<MqttConnection> {
+  const options = mqttConnectionOptionsSchema.parse(input);
+  const log = deps.log ?? (() => {});
+  try {
+    return await attempt(options, options.protocolVersion, deps);
+  } catch (error) {
+    const code = (error as { code?: unknown }).code;
+    if (options.protocolVersion === 5 && options.fallbackToV311 && typeof code === 'number' && UNSUPPORTED_PROTOCOL.has(code)) {
+      log('mqtt_fallback_v311', { refusedCode: code });
+      return attempt(options, 4, deps);
+    }
+    throw error;
+  }
+}
+
+function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions {
+  const tls = o.tls
+    ? {
+        ca: o.tls.caFile ? readFileSync(o.tls.caFile) : undefined,
+        cert: o.tls.certFile ? readFileSync(o.tls.certFile) : undefined,
+        key: o.tls.keyFile ? readFileSync(o.tls.keyFile) : undefined,
+        rejectUnauthorized: o.tls.rejectUnauthorized,
+      }
+    : {};
+  return {
+    ...tls,
+    manualConnect: true,
+    clientId: o.clientId,
+    protocolVersion: version,
+    clean: false,
+    // Receive Maximum: how many unacknowledged QoS 1 messages the broker may send us at once. Acks are
+    // held while frames wait for temperature and writes batch, so the default window would stall.
+    ...(version === 5 ? { properties: { sessionExpiryInterval: o.sessionExpiry_s, receiveMaximum: 65_535 } } : {}),
+    keepalive: o.keepalive_s,
+    reconnectPeriod: o.reconnectInitial_ms,
+    connectTimeout: o.connectTimeout_ms,
+    resubscribe: true,
+    // A refusal after the first connection (broker restarting, auth backend down) is retried with backoff.
+    reconnectOnConnackError: true,
+    username: o.username,
+    password: o.password,
+  };
+}
+
+function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Promise<MqttConnection> {
+  const log = deps.log ?? (() => {});
+  const client = mqtt.connect(o.url, clientOptions(o, version));
+  const stats = { connects: 0, reconnectAttempts: 0 };
+  let delay_ms = o.reconnectInitial_ms;
+
+  // PUBACKs are held by swapping mqtt.js's packet writer. Its own hook, customHandleAcks, cannot
+  // do this: mqtt.js ignores it below MQTT 5, and while its callback is pending the client
+  // handles no further packet (no later message, no PINGRESP), so one slow ack stalls everything.
+  const internals = client as unknown as { _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void };
+  const sendPacket = internals._sendPacket.bind(client);
+  internals._sendPacket = (packet, cb, ...rest) => {
+    if (packet.cmd === 'puback' && !packet[RELEASED]) {
+      cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
+      return;
+    }
+    sendPacket(packet, cb, ...rest);
+  };
+  const acks = new OrderedAckQueue((messageId) => {
+    if (client.connected) sendPacket({ cmd: 'puback', messageId, reasonCode: 0, [RELEASED]: true });
+  });
+
+  const subject = new Subject<InboundMessage>();
+  let early: InboundMessage[] | null = [];
+  const messages$ = new Observable<InboundMessage>((subscriber) => {
+    const subscription = subject.subscribe(subscriber);
+    if (early) {
+      const waiting = early;
+      early = null;
+      for (const m of waiting) subscriber.next(m);
+    }
+    return subscription;
+  });
+
+  client.on('message', (topic, payload, packet) => {
+    const raw: RawMessage = { topic, payload: new Uint8Array(payload), arrivalMs: deps.now() };
+    const ticket = packet.qos === 1 && packet.messageId !== undefined ? acks.enqueue(packet.messageId) : { ack() {} };
+    const message: InboundMessage = { raw, ack: () => ticket.ack() };
+    if (early) early.push(message);
+    else subject.next(message);
+  });
+  client.on('close', () => acks.reset());
+  client.on('reconnect', () => {
+    stats.reconnectAttempts++;
+    // mqtt.js reads reconnectPeriod each time it schedules, so growing it here is the backoff.
+    delay_ms = nextReconnectDelay_ms(delay_ms, o);
+    client.options.reconnectPeriod = delay_ms;
+  });
+  client.on('offline', () => log('mqtt_offline'));
+
+  const publish: Publish = async (topic, payload, opts = {}) => {
+    await client.publishAsync(topic, typeof payload === 'string' ? payload : Buffer.from(payload), {
+      qos: opts.qos ?? 1,
+      retain: opts.retain ?? false,
+    });
+  };
+
+  const connection: MqttConnection = {
+    messages$,
+    protocolVersion: version,
+    publish,
+    stats: () => ({ ...stats, heldAcks: acks.waiting, reconnectDelay_ms: delay_ms }),
+    close: async () => {
+      await client.endAsync();
+      subject.complete();
+    },
+    abandon: () => {
+      client.end(true);
+      subject.complete();
+    },
+  };
+
+  return new Promise<MqttConnection>((resolve, reject) => {
+    let settled = false;
+    client.on('error', (error) => {
+      log('mqtt_error', { message: error.message, code: (error as { code?: unknown }).code });
+      const code = (error as { code?: unknown }).code;
+      if (!settled && typeof code === 'number') {
+        settled = true; // a CONNACK refusal: mqtt.js stops reconnecting by itself
+        client.end(true);
+        reject(error);
+      }
+    });
+    client.on('connect', (connack) => {
+      stats.connects++;
+      delay_ms = o.reconnectInitial_ms;
+      client.options.reconnectPeriod = delay_ms;
+      log('mqtt_connected', { protocolVersion: version, sessionPresent: connack.sessionPresent });
+      if (settled) return;
+      settled = true;
+      subscribeAll(client, o.subscriptions).then(() => resolve(connection), (e) => {
+        client.end(true);
+        reject(e);
+      });
+    });
+    client.connect();
+  });
+}
+
+async function subscribeAll(client: MqttClient, filters: readonly string[]): Promise<void> {
+  if (filters.length === 0) return;
+  const granted = await client.subscribeAsync([...filters], { qos: 1 });
+  const refused = granted.filter((g) => g.qos === 128).map((g) => g.topic);
+  if (refused.length > 0) throw new Error(`broker refused subscriptions: ${refused.join(', ')}`);
+}

@@ -1,0 +1,37 @@
+/** Options, status and segment shapes of the spool (see spool.ts). */
+
+export type SpoolFullPolicy = 'block' | 'drop_oldest';
+
+export interface SpoolOptions {
+  dir: string;
+  /** Total bytes of all segments, at most. */
+  limitBytes: number;
+  /** A segment is sealed once it reaches this size (bytes). Default min(1 MiB, limit / 8). */
+  segmentBytes?: number;
+  /** Fill ratio at which `onHighWater` fires and `aboveHighWater` turns true. Default 0.8. */
+  highWaterRatio?: number;
+  policy?: SpoolFullPolicy;
+  /** fsync each append (default true: a resolved append survives a power cut). */
+  fsync?: boolean;
+  /** Called each time the fill ratio rises across `highWaterRatio`. */
+  onHighWater?: (status: SpoolStatus) => void;
+}
+
+export interface SpoolStatus {
+  bytes: number;
+  limitBytes: number;
+  /** bytes / limitBytes, 0..1. */
+  fillRatio: number;
+  segments: number;
+  /** Lines (points) currently held. */
+  points: number;
+  aboveHighWater: boolean;
+  /** Points deleted by the `drop_oldest` policy since open. */
+  droppedPoints: number;
+}
+
+/** A sealed segment handed to a reader: its id (for `remove`) and its lines in order. */
+export interface SpoolSegment {
+  id: number;
+  lines: string[];
+}

@@ -1,0 +1,84 @@
+import type { LoggerFrame } from '../../model/raw-message.js';
+import type { AlarmTransition, ChannelInfo, LoggerInfo } from '../types.js';
+import { evaluate, keyState, type EngineContext } from './evaluate.js';
+import { healthDescriptor, healthEvaluation } from './health-common.js';
+import { hampelStep } from './hampel.js';
+import { flatlineStep, newFlatline, resetFlatline } from './flatline.js';
+import { silence, silenceLimitMs } from './no-data.js';
+
+/**
+ * Per-channel health for one logger frame: missing readings, out-of-range, spikes (Hampel),
+ * flatline. Also clears the logger's no-data alarm (its arrival is evidence). Mutates `ctx.state`.
+ */
+export function evaluateFrame(ctx: EngineContext, f: LoggerFrame): AlarmTransition[] {
+  const logger = ctx.lookups.loggers.get(f.loggerId);
+  if (logger === undefined) return []; // the decoder refuses unknown loggers before this
+  const out: AlarmTransition[] = [];
+  ctx.state.loggerLastMs[f.loggerId] = Math.max(ctx.state.loggerLastMs[f.loggerId] ?? f.arrivalMs, f.arrivalMs);
+  if (ctx.cfg.health.no_data.enabled) {
+    const d = healthDescriptor(ctx, 'no_data', `l:${f.loggerId}`, { kind: 'logger', loggerId: f.loggerId },
+      logger.zone, logger.location, 'silence_s', 's');
+    out.push(...evaluate(ctx, d, healthEvaluation(ctx, 'no_data', false, f.arrivalMs, 0, null)));
+  }
+  for (const [channelId, ch] of logger.channels) {
+    out.push(...evaluateChannel(ctx, f, logger, channelId, ch, f.values.get(channelId)));
+  }
+  return out;
+}
+
+function evaluateChannel(
+  ctx: EngineContext,
+  f: LoggerFrame,
+  logger: LoggerInfo,
+  channelId: string,
+  ch: ChannelInfo,
+  reading: number | null | undefined,
+): AlarmTransition[] {
+  const h = ctx.cfg.health;
+  const out: AlarmTransition[] = [];
+  const subjectKey = `c:${f.loggerId}/${channelId}`;
+  const subject = { kind: 'channel' as const, loggerId: f.loggerId, channelId, groupId: ch.groupId };
+  const desc = (check: 'channel_missing' | 'out_of_range' | 'spike' | 'flatline', quantity: string, units: string) =>
+    healthDescriptor(ctx, check, subjectKey, subject, logger.zone, ch.location, quantity, units);
+  const lastKey = `${f.loggerId}/${channelId}`;
+  const t = f.timeMs;
+  const usable = typeof reading === 'number';
+  if (usable) ctx.state.channelLastMs[lastKey] = t;
+  const last = (ctx.state.channelLastMs[lastKey] ??= t);
+  if (h.channel_missing.enabled) {
+    const limitMs = silenceLimitMs(logger.expectedIntervalS, h.channel_missing.missing_after_intervals);
+    const s = silence(t, last, limitMs);
+    out.push(...evaluate(ctx, desc('channel_missing', 'missing_s', 's'),
+      healthEvaluation(ctx, 'channel_missing', !usable && s.silent, t, s.silentS, limitMs / 1000)));
+  }
+  if (!usable) {
+    const fk = ctx.state.keys[`flatline|${subjectKey}`];
+    if (fk?.flatline !== undefined) resetFlatline(fk.flatline);
+    return out;
+  }
+  const inRange = reading >= ch.validMin && reading <= ch.validMax;
+  if (h.out_of_range.enabled) {
+    const limit = reading < ch.validMin ? ch.validMin : ch.validMax;
+    out.push(...evaluate(ctx, desc('out_of_range', 'reading', ch.unit),
+      healthEvaluation(ctx, 'out_of_range', !inRange, t, reading, limit)));
+  }
+  if (!inRange) return out; // an open-circuit value must not enter the spike or flatline windows
+  if (h.spike.enabled) {
+    const ks = keyState(ctx, `spike|${subjectKey}`, 1);
+    ks.hampel ??= { window: [] };
+    const v = hampelStep(ks.hampel, reading, h.spike.window_samples, h.spike.k_mads, h.spike.min_deviation);
+    const dev = v.median === null ? null : reading - v.median;
+    out.push(...evaluate(ctx, desc('spike', 'deviation_from_median', ch.unit),
+      healthEvaluation(ctx, 'spike', v.spike, t, dev, v.limit), ks));
+  }
+  if (h.flatline.enabled) {
+    const ks = keyState(ctx, `flatline|${subjectKey}`, 1);
+    ks.flatline ??= newFlatline();
+    const spread = flatlineStep(ks.flatline, t, reading, h.flatline.window_s * 1000);
+    if (spread !== null) {
+      out.push(...evaluate(ctx, desc('flatline', 'spread', ch.unit),
+        healthEvaluation(ctx, 'flatline', spread <= h.flatline.tolerance, t, spread, h.flatline.tolerance), ks));
+    }
+  }
+  return out;
+}

@@ -1,0 +1,48 @@
+import type { GroupResult } from '../../model/result.js';
+import type { QualityFlag } from '../../model/quality.js';
+import type { HealthCheck } from '../schema.js';
+import type { AlarmTransition } from '../types.js';
+import { evaluate, type EngineContext } from './evaluate.js';
+import { healthDescriptor, healthEvaluation } from './health-common.js';
+
+/** The health check that explains each quality flag. */
+export const FLAG_HEALTH_CHECK: Readonly<Record<QualityFlag, HealthCheck>> = {
+  temperature_stale: 'temperature_stale',
+  temperature_missing: 'temperature_stale',
+  element_missing: 'result_incomplete',
+  element_out_of_range: 'result_incomplete',
+  residual_high: 'residual_high',
+  companion_missing: 'result_incomplete',
+  underdetermined: 'result_incomplete',
+};
+
+const FLAG_CHECKS = ['residual_high', 'temperature_stale', 'result_incomplete'] as const;
+
+/** The value shown with each flag alarm. */
+const FLAG_QUANTITY: Record<(typeof FLAG_CHECKS)[number], { quantity: 'residual_rms_micro' | 'temperature_age_s' | null; units: string }> = {
+  residual_high: { quantity: 'residual_rms_micro', units: 'microstrain' },
+  temperature_stale: { quantity: 'temperature_age_s', units: 's' },
+  result_incomplete: { quantity: null, units: '' },
+};
+
+/**
+ * Raise (flag present) or clear (flag absent) the group's flag health alarms for one result.
+ * Mutates `ctx.state`.
+ */
+export function evaluateFlags(ctx: EngineContext, r: GroupResult): AlarmTransition[] {
+  const out: AlarmTransition[] = [];
+  const present = new Set(r.flags.map((f) => FLAG_HEALTH_CHECK[f]));
+  const group = ctx.lookups.groups.get(r.groupId);
+  for (const check of FLAG_CHECKS) {
+    if (!ctx.cfg.health[check].enabled) continue;
+    const q = FLAG_QUANTITY[check];
+    const flags = r.flags.filter((f) => FLAG_HEALTH_CHECK[f] === check);
+    const d = healthDescriptor(
+      ctx, check, `g:${r.groupId}`, { kind: 'group', groupId: r.groupId }, r.zone,
+      group?.location ?? r.groupId, q.quantity ?? (flags.join('+') || check), q.units,
+    );
+    const value = q.quantity === null ? null : (r.values[q.quantity] ?? null);
+    out.push(...evaluate(ctx, d, healthEvaluation(ctx, check, present.has(check), r.timeMs, value, null)));
+  }
+  return out;
+}

@@ -1,0 +1,68 @@
+import type { GroupResult } from '../../model/result.js';
+import type { StructuralRule } from '../schema.js';
+import type { AlarmTransition } from '../types.js';
+import { unitOfQuantity } from '../units.js';
+import { compileLimit, limitLevel, limitValue, type CompiledLimit } from './limit-rule.js';
+import { rateLevel, rateLimit, rateStep } from './rate-rule.js';
+import { newSampleWindow, pushSample, slopePerS } from './sample-window.js';
+import { evaluate, keyState, type EngineContext } from './evaluate.js';
+import type { AlarmDescriptor } from './lifecycle.js';
+
+/** Whether a rule's scope covers a group. */
+export function inScope(rule: StructuralRule, groupId: string, zone: string): boolean {
+  const s = rule.scope;
+  return s.kind === 'structure' || (s.kind === 'zone' ? s.zone === zone : s.group_ids.includes(groupId));
+}
+
+/** Structural rules compiled once at engine creation. */
+export interface CompiledRules {
+  rules: StructuralRule[];
+  limits: Map<string, CompiledLimit>;
+}
+
+export function compileRules(rules: readonly StructuralRule[]): CompiledRules {
+  const limits = new Map<string, CompiledLimit>();
+  for (const r of rules) if (r.kind === 'limit') limits.set(r.id, compileLimit(r));
+  return { rules: [...rules], limits };
+}
+
+/**
+ * Evaluate every structural rule covering the result's group. Call only with unflagged results:
+ * a flagged result is no evidence either way. Mutates `ctx.state`.
+ */
+export function evaluateStructural(ctx: EngineContext, compiled: CompiledRules, r: GroupResult): AlarmTransition[] {
+  const out: AlarmTransition[] = [];
+  const group = ctx.lookups.groups.get(r.groupId);
+  const trendMs = ctx.cfg.trend_window_s * 1000;
+  for (const rule of compiled.rules) {
+    const value = r.values[rule.quantity];
+    if (value === undefined || !inScope(rule, r.groupId, r.zone)) continue;
+    const key = `${rule.id}|g:${r.groupId}`;
+    const ks = keyState(ctx, key, rule.thresholds.length);
+    ks.trend ??= newSampleWindow();
+    pushSample(ks.trend, r.timeMs, value, trendMs, trendMs / 120);
+    const trend = slopePerS(ks.trend, trendMs / 10);
+    const units = unitOfQuantity(rule.quantity);
+    const d: AlarmDescriptor = {
+      key, subjectKey: `g:${r.groupId}`, ruleId: rule.id, alarmClass: 'structural',
+      subject: { kind: 'group', groupId: r.groupId }, zone: r.zone, location: group?.location ?? r.groupId,
+      quantity: rule.kind === 'rate' ? `rate_of_${rule.quantity}` : rule.quantity,
+      units: rule.kind === 'rate' ? `${units}/s` : units, action: rule.action,
+    };
+    const common = {
+      tMs: r.timeMs, onDelayMs: rule.on_delay_s * 1000, offDelayMs: rule.off_delay_s * 1000,
+      levelNames: rule.thresholds.map((t) => t.level), trendPerS: trend,
+    };
+    if (rule.kind === 'limit') {
+      const c = compiled.limits.get(rule.id)!;
+      const raw = limitLevel(c, value, ks.debounce.confirmed);
+      out.push(...evaluate(ctx, d, { ...common, raw, value, limitOf: (i) => limitValue(c, i) }, ks));
+    } else {
+      const slope = rateStep(rule, ks, r.timeMs, value);
+      if (slope === null) continue; // too little history: no evidence either way
+      const raw = rateLevel(rule, slope, ks.debounce.confirmed);
+      out.push(...evaluate(ctx, d, { ...common, raw, value: slope, limitOf: (i) => rateLimit(rule, i) }, ks));
+    }
+  }
+  return out;
+}

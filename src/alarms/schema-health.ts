@@ -1,0 +1,65 @@
+import { z } from 'zod';
+
+const NonNegative = z.number().finite().nonnegative();
+const Positive = z.number().finite().positive();
+
+/** Fields every health check shares. A check without its own level uses `health.level`. */
+const common = {
+  enabled: z.boolean().default(true),
+  level: z.string().min(1).optional(),
+  action: z.string().min(1).optional(),
+  /** The condition must be gone this long before the alarm clears. */
+  off_delay_s: NonNegative.default(0),
+};
+
+/**
+ * Instrument-health settings. Every check is on unless disabled: silence is never all-clear.
+ * Expected logger intervals and channel valid ranges come from the structure configuration
+ * (through the lookups), not from here.
+ */
+export const HealthConfigSchema = z.strictObject({
+  /** Default level for every health alarm (a name from `levels`). */
+  level: z.string().min(1),
+  /** A logger silent for missing_after_intervals x its expected interval. */
+  no_data: z.strictObject({ ...common, missing_after_intervals: Positive.default(3) }).prefault({}),
+  /** A channel null or absent (while its logger reports) for missing_after_intervals x interval. */
+  channel_missing: z.strictObject({ ...common, missing_after_intervals: Positive.default(3) }).prefault({}),
+  /** A channel varying less than tolerance (channel unit, max - min) over window_s. */
+  flatline: z.strictObject({ ...common, window_s: Positive.default(3600), tolerance: NonNegative.default(0) }).prefault({}),
+  /**
+   * Hampel filter on each channel: a reading further than k_mads x 1.4826 x MAD from the median of
+   * the previous window_samples readings is a spike. min_deviation (channel unit) ignores
+   * deviations too small to matter when the MAD is near zero.
+   */
+  spike: z
+    .strictObject({
+      ...common,
+      window_samples: z.number().int().min(3).default(15),
+      k_mads: Positive.default(3),
+      min_deviation: NonNegative.default(0),
+      off_delay_s: NonNegative.default(60),
+    })
+    .prefault({}),
+  /** A reading outside the channel's valid range (open circuit, short, saturated input). */
+  out_of_range: z.strictObject(common).prefault({}),
+  /** A result flagged residual_high (redundant group does not fit a strain state). */
+  residual_high: z.strictObject(common).prefault({}),
+  /** A result flagged temperature_stale or temperature_missing. */
+  temperature_stale: z.strictObject(common).prefault({}),
+  /** A result flagged element_missing, element_out_of_range, companion_missing or underdetermined. */
+  result_incomplete: z.strictObject(common).prefault({}),
+});
+
+export type HealthConfig = z.infer<typeof HealthConfigSchema>;
+/** Names of the health checks, the `check` of every health alarm. */
+export const HEALTH_CHECKS = [
+  'no_data',
+  'channel_missing',
+  'flatline',
+  'spike',
+  'out_of_range',
+  'residual_high',
+  'temperature_stale',
+  'result_incomplete',
+] as const;
+export type HealthCheck = (typeof HEALTH_CHECKS)[number];

@@ -1,0 +1,99 @@
+import { resolve } from 'node:path';
+import { asyncScheduler, interval, map, merge, Subject, takeUntil, type SchedulerLike } from 'rxjs';
+import { CaptureWriter } from '../adapters/capture/capture-writer.js';
+import { DeadLetterFanOut } from '../adapters/deadletter/fan-out.js';
+import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
+import { MqttDeadLetterSink } from '../adapters/deadletter/mqtt-sink.js';
+import { NdjsonFileDeadLetterSink } from '../adapters/deadletter/ndjson-file-sink.js';
+import { connectMqtt, type MqttConnection } from '../adapters/mqtt/connection.js';
+import type { LoadedRuntime } from '../config/load-runtime.js';
+import { newDecodeCounts } from '../ingest/decode-operator.js';
+import { compileTopicPattern, subscriptionFilter } from '../ingest/topic.js';
+import { FrameProcessor } from '../pipeline/frame-processor.js';
+import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
+import { writeAndAck } from '../pipeline/write-and-ack.js';
+import { ensureParent, openPointSink } from './sinks.js';
+
+export interface LiveDeps {
+  /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
+  now: () => number;
+  scheduler?: SchedulerLike;
+  log: (event: string, detail?: Record<string, unknown>) => void;
+}
+
+export interface LiveProcessor {
+  connection: MqttConnection;
+  status(): Record<string, unknown>;
+  /** Stops taking messages, writes out what is in flight, closes everything. */
+  stop(): Promise<void>;
+}
+
+/**
+ * Composition root of the live job: broker in, pipeline, database (or files) out. Everything is
+ * handed to the pipeline from here; the pipeline itself does no I/O of its own.
+ */
+export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<LiveProcessor> {
+  const { runtime: rc, structure, baseDir } = loaded;
+  const topicPattern = compileTopicPattern(rc.mqtt.topic_pattern);
+  const { sink, influx, lineFiles } = await openPointSink(rc, baseDir, deps.now, (ratio) => deps.log('spool_high_water', { fillRatio: ratio }));
+  const capture = rc.capture
+    ? await CaptureWriter.open({
+      dir: resolve(baseDir, rc.capture.dir), rotateBytes: rc.capture.rotate_bytes, rotateEvery_ms: rc.capture.rotate_every_s * 1000, now: deps.now,
+      retention: { maxAge_h: rc.capture.retention_hours, maxBytes: rc.capture.retention_bytes },
+    })
+    : null;
+  const connection = await connectMqtt({
+    url: rc.mqtt.url, clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
+    username: rc.mqtt.username, password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
+    keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
+    reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms,
+    subscriptions: [subscriptionFilter(topicPattern, structure.structureId)],
+  }, { now: deps.now, log: deps.log });
+
+  const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
+  if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(connection.publish, structure.structureId, rc.dead_letters.mqtt_topic));
+  const deadLetters = new DeadLetterFanOut(deadLetterSinks);
+  const decodeCounts = newDecodeCounts();
+  const processor = new FrameProcessor<PipelineMessage>(structure);
+  let writeErrors = 0;
+
+  const stop$ = new Subject<void>();
+  const inputs$ = merge(
+    connection.messages$.pipe(map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
+    interval(rc.tick_ms, deps.scheduler ?? asyncScheduler).pipe(map((): PipelineInput<PipelineMessage> => ({ kind: 'tick', nowMs: deps.now() }))),
+  ).pipe(takeUntil(stop$));
+  const processed$ = inputs$.pipe(pipeline<PipelineMessage>({
+    structure, topicPattern, deadLetters, decodeCounts, processor: processor as FrameProcessor<unknown>,
+    record: capture ? (raw) => capture.append(raw) : undefined,
+    onDeadLetterError: (err) => deps.log('dead_letter_failed', { message: String(err) }),
+  }));
+  // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
+  const drained = new Promise<void>((resolveDrained) => {
+    processed$.pipe(writeAndAck(sink, {}, 2048, (err) => {
+      writeErrors++;
+      deps.log('write_failed', { message: err instanceof Error ? err.message : String(err) });
+    })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
+  });
+  const captureFlush = capture ? setInterval(() => { capture.flush().catch((e) => deps.log('capture_failed', { message: String(e) })); }, rc.capture!.flush_every_ms) : null;
+
+  return {
+    connection,
+    status: () => ({
+      decode: { ...decodeCounts },
+      deadLetters: { ...deadLetters.counts },
+      frames: { ...processor.counts },
+      writeErrors,
+      database: influx?.status() ?? null,
+      lineFiles: lineFiles?.status() ?? null,
+      mqtt: connection.stats(),
+    }),
+    async stop() {
+      if (captureFlush) clearInterval(captureFlush);
+      stop$.next();
+      await drained;
+      await sink.close();
+      await capture?.close();
+      await connection.close();
+    },
+  };
+}

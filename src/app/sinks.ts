@@ -1,0 +1,40 @@
+import { dirname, resolve } from 'node:path';
+import { mkdir } from 'node:fs/promises';
+import { openInfluxSink, type InfluxSink } from '../adapters/influx/influx-sink.js';
+import { LineFileSink } from '../adapters/lineproto/file-sink.js';
+import { loadToken } from '../adapters/secret.js';
+import type { RuntimeConfig } from '../config/runtime-schema.js';
+import type { PointSink } from '../model/point.js';
+
+/** The point sink a runtime configuration asks for: the database (with its spool) or line-protocol files. */
+export async function openPointSink(
+  rc: RuntimeConfig, baseDir: string, now: () => number,
+  onSpoolHighWater: (fillRatio: number) => void = () => {},
+): Promise<{ sink: PointSink; influx: InfluxSink | null; lineFiles: LineFileSink | null }> {
+  if (rc.database) {
+    const db = rc.database;
+    const token = await loadToken({ env: db.token_env, file: db.token_file ? resolve(baseDir, db.token_file) : undefined });
+    const influx = await openInfluxSink({
+      url: db.url, org: db.org, bucket: db.bucket, token, timeout_ms: db.timeout_ms,
+      gzipThreshold_bytes: db.gzip_threshold_bytes, batchSize: db.batch_size, flushInterval_ms: db.flush_interval_ms,
+      maxRetries: db.max_retries, minRetryDelay_ms: db.min_retry_delay_ms, maxRetryDelay_ms: db.max_retry_delay_ms,
+      now,
+      spool: {
+        dir: resolve(baseDir, db.spool.dir), limitBytes: db.spool.limit_bytes, policy: db.spool.policy,
+        highWaterRatio: db.spool.high_water_ratio, onHighWater: (s) => onSpoolHighWater(s.fillRatio),
+      },
+    });
+    return { sink: influx, influx, lineFiles: null };
+  }
+  const dir = resolve(baseDir, rc.line_protocol.dir);
+  await mkdir(dir, { recursive: true });
+  const lineFiles = new LineFileSink({
+    dir, prefix: 'strainward', maxFileBytes: rc.line_protocol.max_file_bytes, maxFileAge_ms: rc.line_protocol.max_file_age_s * 1000, now,
+  });
+  return { sink: lineFiles, influx: null, lineFiles };
+}
+
+export async function ensureParent(path: string): Promise<string> {
+  await mkdir(dirname(path), { recursive: true });
+  return path;
+}

@@ -1,0 +1,35 @@
+import { Command } from 'commander';
+import pino from 'pino';
+import { z } from 'zod';
+import { startLive } from '../../app/live.js';
+import { loadRuntimeFile } from '../../config/load-runtime.js';
+import { parseOptions } from '../options.js';
+
+export const RunOptionsSchema = z.strictObject({
+  config: z.string().min(1),
+  statusEvery: z.coerce.number().int().min(0).default(60),
+});
+
+/** `strainward run`: the live job, until SIGINT or SIGTERM. */
+export function runCommand(): Command {
+  return new Command('run')
+    .description('process live readings from the broker into the database (or line-protocol files)')
+    .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON) naming the structure file')
+    .option('--status-every <s>', 'log a status line every N seconds (0: never)', '60')
+    .action(async (raw: unknown) => {
+      const o = parseOptions(RunOptionsSchema, raw);
+      const log = pino({ name: 'strainward' }, pino.destination(2));
+      const loaded = await loadRuntimeFile(o.config);
+      const live = await startLive(loaded, { now: Date.now, log: (event, detail) => log.info({ event, ...detail }) });
+      log.info({ event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion });
+      const timer = o.statusEvery > 0 ? setInterval(() => log.info({ event: 'status', ...live.status() }), o.statusEvery * 1000) : null;
+      await new Promise<void>((done) => {
+        const stop = () => { done(); };
+        process.once('SIGINT', stop);
+        process.once('SIGTERM', stop);
+      });
+      if (timer) clearInterval(timer);
+      await live.stop();
+      log.info({ event: 'stopped', ...live.status() });
+    });
+}

@@ -1,0 +1,77 @@
+import { z } from 'zod';
+
+/**
+ * Deployment settings of one processor (where the broker, database and files are), kept apart
+ * from the structure description. Secrets never live here: the database token comes from an
+ * environment variable or a secret file named here, the MQTT password likewise.
+ */
+const duration_ms = z.number().int().positive();
+
+export const RuntimeConfigSchema = z.strictObject({
+  schema_version: z.literal(1),
+  /** Structure file, relative to this file. */
+  structure: z.string().min(1),
+  mqtt: z.strictObject({
+    url: z.string().min(1),
+    client_id: z.string().min(1),
+    /** Preferred protocol: 5, or 4 (MQTT 3.1.1, e.g. for brokers that refuse 5). */
+    protocol_version: z.union([z.literal(5), z.literal(4)]).default(5),
+    fallback_to_v311: z.boolean().default(true),
+    username: z.string().min(1).optional(),
+    password_env: z.string().min(1).optional(),
+    topic_pattern: z.string().default('strainward/{structure}/{logger}/scan'),
+    keepalive_s: z.number().int().min(0).default(30),
+    session_expiry_s: z.number().int().min(0).default(86_400),
+    reconnect_initial_ms: duration_ms.default(500),
+    reconnect_max_ms: duration_ms.default(30_000),
+  }),
+  /** Absent: results go to rotating line-protocol files (the embedded default). */
+  database: z.strictObject({
+    url: z.string().url(),
+    org: z.string().min(1),
+    bucket: z.string().min(1),
+    token_env: z.string().min(1).optional(),
+    token_file: z.string().min(1).optional(),
+    batch_size: z.number().int().positive().default(5000),
+    flush_interval_ms: duration_ms.default(100),
+    timeout_ms: duration_ms.default(10_000),
+    gzip_threshold_bytes: z.number().int().min(0).default(1000),
+    max_retries: z.number().int().min(0).default(3),
+    min_retry_delay_ms: duration_ms.default(200),
+    max_retry_delay_ms: duration_ms.default(10_000),
+    spool: z.strictObject({
+      dir: z.string().min(1),
+      limit_bytes: z.number().int().positive().default(1024 ** 3),
+      /** block: stop acknowledging (the broker keeps messages); drop_oldest: delete the oldest spooled data, counted. */
+      policy: z.enum(['block', 'drop_oldest']).default('block'),
+      high_water_ratio: z.number().gt(0).lt(1).default(0.8),
+    }),
+  }).optional(),
+  line_protocol: z.strictObject({
+    dir: z.string().min(1),
+    max_file_bytes: z.number().int().positive().default(64 * 1024 ** 2),
+    max_file_age_s: z.number().positive().default(3600),
+  }).default({ dir: 'var/lp', max_file_bytes: 64 * 1024 ** 2, max_file_age_s: 3600 }),
+  dead_letters: z.strictObject({
+    file: z.string().min(1),
+    /** `{structure}` is replaced; empty string: no MQTT copy. */
+    mqtt_topic: z.string().default('strainward/{structure}/deadletter'),
+  }).default({ file: 'var/deadletters.ndjson', mqtt_topic: 'strainward/{structure}/deadletter' }),
+  /** Raw capture of everything received, for replay. Absent: no capture. */
+  capture: z.strictObject({
+    dir: z.string().min(1),
+    rotate_bytes: z.number().int().positive().default(64 * 1024 ** 2),
+    rotate_every_s: z.number().positive().default(3600),
+    flush_every_ms: duration_ms.default(1000),
+    retention_hours: z.number().positive().optional(),
+    retention_bytes: z.number().int().positive().optional(),
+  }).optional(),
+  alarms: z.strictObject({
+    state_file: z.string().min(1),
+    log_file: z.string().min(1),
+  }).default({ state_file: 'var/alarm-state.json', log_file: 'var/alarms.ndjson' }),
+  /** Pipeline clock tick: drives waits, no-data detection and escalation. */
+  tick_ms: duration_ms.default(1000),
+});
+
+export type RuntimeConfig = z.infer<typeof RuntimeConfigSchema>;

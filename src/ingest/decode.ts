@@ -1,0 +1,160 @@
+import type { ChannelDirectory } from '../model/channel-directory.js';
+import type { LoggerFrame, RawMessage } from '../model/raw-message.js';
+import type { DeadLetter, Rejection } from '../model/rejection.js';
+import { toDeadLetter } from './dead-letter-record.js';
+import { parseLoggerTimestamp, schemaFor } from './payload-schema.js';
+import { parseTopic, type TopicPattern } from './topic.js';
+
+export type DecodeResult = { ok: true; frame: LoggerFrame } | { ok: false; deadLetter: DeadLetter };
+
+type Issue = { code: string; path: PropertyKey[]; message: string; keys?: string[] };
+
+const strictUtf8 = new TextDecoder('utf-8', { fatal: true });
+const NON_FINITE_TEXT = /^\s*[+-]?(nan|inf|infinity)\s*$/i;
+
+/**
+ * Decode one raw message into a logger frame, or a dead letter listing every problem found
+ * (topic, JSON, schema, unknown logger or channel, non-finite numbers, timestamp) at once.
+ * Pure: reads nothing but its arguments, mutates nothing.
+ */
+export function decodeMessage(raw: RawMessage, directory: ChannelDirectory, pattern: TopicPattern): DecodeResult {
+  const rejections: Rejection[] = [];
+  const loggerId = knownLogger(raw.topic, directory, pattern, rejections);
+
+  const parsed = parseJson(raw.payload);
+  if (!parsed.ok) {
+    rejections.push(parsed.rejection);
+    return { ok: false, deadLetter: toDeadLetter(raw, rejections) };
+  }
+  const input = parsed.value;
+  const result = schemaFor(input).safeParse(input);
+  if (!result.success) rejections.push(...issuesToRejections(result.error.issues as Issue[], input));
+
+  // Checks below read the raw input, not the schema output, so they run even when the schema
+  // failed elsewhere: the operator sees every problem of a message in one dead letter.
+  let timeMs = NaN;
+  if (isRecord(input)) {
+    const ts = input.ts;
+    if (typeof ts === 'string' || (typeof ts === 'number' && Number.isFinite(ts))) {
+      const t = parseLoggerTimestamp(ts);
+      if (t.ok) timeMs = t.timeMs;
+      else rejections.push({ code: 'invalid_timestamp', path: 'ts', reason: `ts: ${t.reason}` });
+    }
+    // A message naming a channel the configuration does not know is refused whole, not
+    // half-processed: such a logger is misconfigured (wrong program, swapped cable map), and
+    // its other values are then suspect too. Refusing it makes the fault visible at once.
+    if (loggerId !== null) {
+      for (const { channelId, path } of channelsNamed(input)) {
+        if (!directory.hasChannel(loggerId, channelId)) {
+          rejections.push({
+            code: 'unknown_channel',
+            path,
+            reason: `${path}: channel "${channelId}" is not configured on logger "${loggerId}"`,
+          });
+        }
+      }
+    }
+  }
+
+  if (rejections.length > 0 || !result.success || loggerId === null) {
+    return { ok: false, deadLetter: toDeadLetter(raw, rejections) };
+  }
+  const data = result.data;
+  const values = new Map<string, number | null>('values' in data ? Object.entries(data.values) : [[data.channel, data.value]]);
+  return {
+    ok: true,
+    frame: {
+      structureId: directory.structureId,
+      loggerId,
+      timeMs,
+      seq: data.seq ?? null,
+      values,
+      arrivalMs: raw.arrivalMs,
+    },
+  };
+}
+
+/** The logger id when the topic names this structure and a configured logger; else null (rejection pushed). */
+function knownLogger(topic: string, directory: ChannelDirectory, pattern: TopicPattern, out: Rejection[]): string | null {
+  const match = parseTopic(pattern, topic);
+  if (!match.ok) {
+    out.push(match.rejection);
+    return null;
+  }
+  if (match.structureId !== directory.structureId) {
+    out.push({
+      code: 'unknown_topic',
+      path: '',
+      reason: `topic "${topic}" names structure "${match.structureId}", this processor serves "${directory.structureId}"`,
+    });
+    return null;
+  }
+  if (!directory.hasLogger(match.loggerId)) {
+    out.push({ code: 'unknown_logger', path: '', reason: `logger "${match.loggerId}" is not configured (topic "${topic}")` });
+    return null;
+  }
+  return match.loggerId;
+}
+
+function parseJson(payload: Uint8Array): { ok: true; value: unknown } | { ok: false; rejection: Rejection } {
+  const fail = (reason: string) => ({ ok: false as const, rejection: { code: 'not_json' as const, path: '', reason } });
+  if (payload.byteLength === 0) return fail('payload is empty');
+  let text: string;
+  try {
+    text = strictUtf8.decode(payload);
+  } catch {
+    return fail('payload is not valid UTF-8 text');
+  }
+  try {
+    return { ok: true, value: JSON.parse(text) };
+  } catch (e) {
+    return fail(`payload is not valid JSON: ${(e as Error).message}`);
+  }
+}
+
+function isRecord(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}
+
+/** Channel ids a payload names, with their paths, whatever else is wrong with it. */
+function channelsNamed(input: Record<string, unknown>): { channelId: string; path: string }[] {
+  if (isRecord(input.values)) return Object.keys(input.values).map((id) => ({ channelId: id, path: `values.${id}` }));
+  if (typeof input.channel === 'string' && input.channel !== '') return [{ channelId: input.channel, path: 'channel' }];
+  return [];
+}
+
+function valueAt(input: unknown, path: PropertyKey[]): unknown {
+  let v = input;
+  for (const key of path) v = isRecord(v) ? v[key as string] : undefined;
+  return v;
+}
+
+const isChannelValuePath = (path: PropertyKey[]) =>
+  (path.length === 2 && path[0] === 'values') || (path.length === 1 && path[0] === 'value');
+
+function issuesToRejections(issues: Issue[], input: unknown): Rejection[] {
+  const out: Rejection[] = [];
+  for (const issue of issues) {
+    if (issue.code === 'unrecognized_keys' && issue.keys) {
+      for (const key of issue.keys) {
+        const path = [...issue.path, key].join('.');
+        out.push({ code: 'invalid_payload', path, reason: `${path}: unknown key (the contract is strict)` });
+      }
+      continue;
+    }
+    const path = issue.path.join('.');
+    const value = valueAt(input, issue.path);
+    if (typeof value === 'number' && !Number.isFinite(value)) {
+      out.push({ code: 'non_finite_value', path, reason: `${path}: ${value} is not a finite number` });
+    } else if (isChannelValuePath(issue.path) && typeof value === 'string' && NON_FINITE_TEXT.test(value)) {
+      out.push({
+        code: 'non_finite_value',
+        path,
+        reason: `${path}: "${value}" is not a finite number (send null for an unreadable channel)`,
+      });
+    } else {
+      out.push({ code: 'invalid_payload', path, reason: `${path || 'payload'}: ${issue.message}` });
+    }
+  }
+  return out;
+}

@@ -1,0 +1,165 @@
+import type { CompiledGroup, CompiledStructure, TemperatureChannel } from '../config/compile.js';
+import { BIT_TEMPERATURE_MISSING, BIT_TEMPERATURE_STALE, evaluateGroup } from '../mechanics/evaluate-group.js';
+import { createGroupOutput, type GroupOutput } from '../mechanics/group-model.js';
+import type { LoggerFrame } from '../model/raw-message.js';
+import type { GroupResult } from '../model/result.js';
+import { toGroupResult } from '../results/group-result.js';
+import { groupTemperatureAt, groupWaitsForTemperature, type GroupTemperature } from './group-join.js';
+import { TemperatureHistory } from './temperature-history.js';
+
+/** A frame with everything computed from it: the unit that is written, then acknowledged. */
+export interface ProcessedFrame<M> {
+  frame: LoggerFrame;
+  message: M;
+  results: GroupResult[];
+  /** Temperature readings this frame carried that were accepted: sensor id -> degC. */
+  temperatures: Record<string, number>;
+}
+
+/** Per-group state, keyed by group id: the evaluator's workspace and counters. */
+interface GroupRuntime {
+  group: CompiledGroup;
+  raw: Float64Array;
+  out: GroupOutput;
+  temperature: GroupTemperature;
+  evaluated: number;
+  withheld: number;
+}
+
+export interface FrameProcessorCounts {
+  frames: number;
+  results: number;
+  withheldResults: number;
+  heldFrames: number;
+  temperatureRejected: number;
+  forcedReleases: number;
+}
+
+/** Most frames one logger may have waiting for temperature; beyond, the oldest is computed at once. */
+export const MAX_HELD_PER_LOGGER = 20_000;
+
+/**
+ * The pipeline's stateful core, free of RxJS and I/O: temperature histories per sensor, held frames
+ * per logger, evaluator workspaces per group. All state is keyed (sensor, logger, group), so a
+ * structure's groups can later be split across processes by key. Time comes only from the inputs:
+ * `clockMs` is the pipeline clock (latest arrival or tick), never the wall clock.
+ */
+export class FrameProcessor<M> {
+  readonly counts: FrameProcessorCounts = { frames: 0, results: 0, withheldResults: 0, heldFrames: 0, temperatureRejected: 0, forcedReleases: 0 };
+  private readonly histories = new Map<string, TemperatureHistory>();
+  private readonly groups = new Map<string, GroupRuntime>();
+  private readonly held = new Map<string, Array<{ frame: LoggerFrame; message: M; temperatures: Record<string, number> }>>();
+  private readonly sensorsByChannel = new Map<string, TemperatureChannel>();
+
+  constructor(private readonly structure: CompiledStructure) {
+    for (const t of structure.temperatureSensors.values()) {
+      this.sensorsByChannel.set(`${t.loggerId}/${t.channelId}`, t);
+      this.histories.set(t.sensorId, new TemperatureHistory());
+    }
+    for (const g of structure.groups) {
+      this.groups.set(g.config.id, {
+        group: g, raw: new Float64Array(g.model.m), out: createGroupOutput(g.model.m),
+        temperature: { valueC: Number.NaN, ageS: Number.NaN, stale: false }, evaluated: 0, withheld: 0,
+      });
+    }
+  }
+
+  /** A decoded frame arrives. Returns the frames completed by it, in order per logger. */
+  onFrame(frame: LoggerFrame, message: M, clockMs: number): ProcessedFrame<M>[] {
+    this.counts.frames++;
+    const temperatures = this.takeTemperatures(frame);
+    const done: ProcessedFrame<M>[] = [];
+    // New temperature may release frames of other loggers that were waiting for it.
+    if (Object.keys(temperatures).length > 0) this.releaseReady(clockMs, done);
+    const queue = this.held.get(frame.loggerId);
+    if ((queue && queue.length > 0) || this.mustWait(frame, clockMs)) {
+      const q = queue ?? [];
+      q.push({ frame, message, temperatures });
+      this.held.set(frame.loggerId, q);
+      this.counts.heldFrames++;
+      if (q.length > MAX_HELD_PER_LOGGER) {
+        this.counts.forcedReleases++;
+        const oldest = q.shift()!;
+        done.push(this.compute(oldest.frame, oldest.message, oldest.temperatures));
+      }
+      this.releaseReady(clockMs, done);
+    } else {
+      done.push(this.compute(frame, message, temperatures));
+    }
+    return done;
+  }
+
+  /** The pipeline clock advanced (a tick): frames whose wait ran out are computed. */
+  onTick(clockMs: number): ProcessedFrame<M>[] {
+    const done: ProcessedFrame<M>[] = [];
+    this.releaseReady(clockMs, done);
+    return done;
+  }
+
+  /** End of input: every held frame is computed with what is known. */
+  flush(): ProcessedFrame<M>[] {
+    return this.onTick(Number.POSITIVE_INFINITY);
+  }
+
+  private releaseReady(clockMs: number, done: ProcessedFrame<M>[]): void {
+    for (const q of this.held.values()) {
+      while (q.length > 0 && !this.mustWait(q[0].frame, clockMs)) {
+        const h = q.shift()!;
+        done.push(this.compute(h.frame, h.message, h.temperatures));
+      }
+    }
+  }
+
+  private mustWait(frame: LoggerFrame, clockMs: number): boolean {
+    const groups = this.structure.groupsByLogger.get(frame.loggerId);
+    if (!groups) return false;
+    return groups.some((g) => groupWaitsForTemperature(g, this.histories, frame.timeMs, frame.arrivalMs, clockMs));
+  }
+
+  private takeTemperatures(frame: LoggerFrame): Record<string, number> {
+    const accepted: Record<string, number> = {};
+    for (const [channel, value] of frame.values) {
+      const sensor = this.sensorsByChannel.get(`${frame.loggerId}/${channel}`);
+      if (!sensor || value === null) continue;
+      const c = value + sensor.offsetC;
+      if (c < sensor.validMin || c > sensor.validMax) {
+        this.counts.temperatureRejected++;
+        continue;
+      }
+      this.histories.get(sensor.sensorId)!.add(frame.timeMs, c);
+      accepted[sensor.sensorId] = c;
+    }
+    return accepted;
+  }
+
+  private compute(frame: LoggerFrame, message: M, temperatures: Record<string, number>): ProcessedFrame<M> {
+    const results: GroupResult[] = [];
+    for (const g of this.structure.groupsByLogger.get(frame.loggerId) ?? []) {
+      const rt = this.groups.get(g.config.id)!;
+      const chans = g.elementChannels;
+      for (let i = 0; i < chans.length; i++) {
+        const v = frame.values.get(chans[i]);
+        rt.raw[i] = v === null || v === undefined ? Number.NaN : v;
+      }
+      const comp = g.companion ? frame.values.get(g.companion.channelId) : undefined;
+      const t = groupTemperatureAt(g, this.histories, frame.timeMs, rt.temperature);
+      let extra = t.stale ? BIT_TEMPERATURE_STALE : 0;
+      if (Number.isNaN(t.valueC) && g.config.temperature.withhold_when_missing) {
+        // Configured to withhold: no stress without temperature, but the frame is counted and flagged.
+        rt.withheld++;
+        this.counts.withheldResults++;
+        extra |= BIT_TEMPERATURE_MISSING;
+        results.push({
+          structureId: this.structure.structureId, groupId: g.config.id, zone: g.config.zone, loggerId: frame.loggerId,
+          timeMs: frame.timeMs, seq: frame.seq, values: {}, elementStrainMicro: {}, flags: ['temperature_missing'],
+        });
+        continue;
+      }
+      evaluateGroup(g.model, rt.raw, t.valueC, comp === null || comp === undefined ? Number.NaN : comp, rt.out);
+      rt.evaluated++;
+      this.counts.results++;
+      results.push(toGroupResult(this.structure.structureId, g, rt.out, frame.timeMs, frame.seq, extra, t.ageS));
+    }
+    return { frame, message, results, temperatures };
+  }
+}

@@ -1,0 +1,16 @@
+/** The report's own stylesheet, inlined: neutral greys, one accent, system fonts only (no downloads). */
+export const REPORT_CSS = `
+body{font:14px/1.45 system-ui,-apple-system,"Segoe UI",sans-serif;color:#222;margin:0;background:#fafaf8}
+main{max-width:900px;margin:0 auto;padding:16px 20px 40px}
+h1{font-size:22px;margin:8px 0 4px}h2{font-size:18px;margin:28px 0 8px;border-bottom:1px solid #ccc;padding-bottom:3px}
+h3{font-size:15px;margin:20px 0 4px}
+.notice{border:2px solid #555;background:#fff;padding:8px 14px;margin:10px 0}
+.notice p{margin:4px 0}.meta{color:#555}
+table{border-collapse:collapse;margin:6px 0;font-size:13px}th,td{border:1px solid #ccc;padding:3px 7px;text-align:left}
+th{background:#eee}td.n{text-align:right;font-variant-numeric:tabular-nums}
+svg.chart{display:block;margin:4px 0 10px;background:#fff}
+svg .plot{fill:#fff;stroke:#999}svg .grid{stroke:#e4e4e4}svg .limit{stroke:#a33;stroke-dasharray:3 2}
+svg .band{opacity:.55}svg .gap{fill:#bbb;opacity:.45}svg .series{fill:none;stroke-width:1.2}
+svg text{font:11px system-ui,sans-serif;fill:#333}svg .chart-title{font-weight:600}svg .gap-label,svg .empty{fill:#666}
+svg .band-label{fill:#822}svg .span{fill:#6b7f99}
+`;

@@ -1,0 +1,29 @@
+import type { QuantityDifference } from './compare.js';
+import { esc, isoTime, num } from './format.js';
+import type { Extreme, GroupPeaks } from './peaks.js';
+import type { ReportAlarmTransition } from './types.js';
+
+/** A numeric cell: shown rounded, the exact value kept in data-value. */
+const cell = (v: number | undefined | null, digits = 2) =>
+  v === undefined || v === null || !Number.isFinite(v) ? '<td class="n">–</td>' : `<td class="n" data-value="${v}">${num(v, digits)}</td>`;
+const ext = (e: Extreme | null) => (e ? `${cell(e.value)}<td>${esc(isoTime(e.timeMs))}</td>` : '<td class="n">–</td><td>–</td>');
+
+/** Peak table: per group max von Mises, max and min principal stress, with times. Pure. */
+export function peaksTable(peaks: readonly GroupPeaks[]): string {
+  const rows = peaks.map((p) => `<tr data-group="${esc(p.groupId)}"><td>${esc(p.groupId)}</td>${ext(p.maxVonMises)}${ext(p.maxPrincipal)}${ext(p.minPrincipal)}<td class="n">${p.samples}</td></tr>`);
+  return `<table class="peaks"><thead><tr><th>group</th><th>max von Mises, MPa</th><th>at (UTC)</th><th>max principal, MPa</th><th>at (UTC)</th><th>min principal, MPa</th><th>at (UTC)</th><th>results</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+}
+
+/** Every alarm transition in time order. Pure. */
+export function alarmsTable(alarms: readonly ReportAlarmTransition[]): string {
+  if (alarms.length === 0) return '<p>No alarm changed state in this period.</p>';
+  const rows = [...alarms].sort((a, b) => a.time_ms - b.time_ms).map((a) => `<tr class="${a.class}"><td>${esc(isoTime(a.time_ms))}</td><td>${esc(a.class)}</td><td>${esc(a.alarm_id)}</td><td>${esc(a.state)}</td><td>${esc(a.level)}</td><td>${esc(a.group_id ?? '')}</td><td>${esc(a.channel ?? '')}</td><td>${esc(a.quantity ?? '')}</td>${cell(a.value, 3)}${cell(a.limit, 3)}<td>${esc(a.message)}</td></tr>`);
+  return `<table class="alarms"><thead><tr><th>time (UTC)</th><th>class</th><th>alarm</th><th>state</th><th>level</th><th>group</th><th>channel</th><th>quantity</th><th>value</th><th>limit</th><th>message</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+}
+
+/** Differences between two runs per group and quantity. Pure. */
+export function differencesTable(diffs: readonly QuantityDifference[], labelA: string, labelB: string): string {
+  if (diffs.length === 0) return '<p>The two runs have no result in common (same group and logger time).</p>';
+  const rows = diffs.map((d) => `<tr data-group="${esc(d.groupId)}" data-quantity="${esc(d.quantity)}"><td>${esc(d.groupId)}</td><td>${esc(d.quantity)}</td><td class="n">${d.matched}</td>${cell(d.meanDifference, 4)}${cell(d.maxAbsDifference, 4)}<td>${esc(isoTime(d.maxAtMs))}</td></tr>`);
+  return `<p>Differences are ${esc(labelB)} minus ${esc(labelA)}, over results of the same group at the same logger time.</p><table class="differences"><thead><tr><th>group</th><th>quantity</th><th>matched</th><th>mean difference</th><th>max |difference|</th><th>at (UTC)</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+}

@@ -1,0 +1,67 @@
+import type { GroupResult, ResultQuantity } from '../model/result.js';
+
+/**
+ * Inputs of the diagnosis report. The alarm transition is a minimal local shape (not the engine's
+ * full record) so the report can be fed from the alarm log, a database query or a test.
+ */
+export interface ReportAlarmTransition {
+  /** When the alarm changed, epoch ms. */
+  time_ms: number;
+  alarm_id: string;
+  class: 'structural' | 'health';
+  /** e.g. active_unacknowledged, active_acknowledged, cleared_unacknowledged, closed. */
+  state: string;
+  level: string;
+  group_id?: string;
+  channel?: string;
+  quantity?: string;
+  value?: number;
+  limit?: number;
+  message: string;
+}
+
+/** One limit of one quantity: an alarm band beyond `upper` (or below `lower`), in the quantity's unit. */
+export interface LimitBand {
+  level: string;
+  upper?: number;
+  lower?: number;
+  /** Only these groups (all when absent). */
+  groups?: string[];
+}
+
+export type QuantityLimits = Partial<Record<ResultQuantity, LimitBand[]>>;
+
+/** A set of results: a live run, or a replay with another configuration. */
+export interface ReportRun {
+  label: string;
+  results: readonly GroupResult[];
+}
+
+export interface ReportInput {
+  title: string;
+  structureId: string;
+  /** When the report was made, epoch ms (injected: the report never reads the clock). */
+  generatedAtMs: number;
+  run: ReportRun;
+  alarms: readonly ReportAlarmTransition[];
+  limits?: QuantityLimits;
+  /** A second run to compare with the first, result by result (same group and logger time). */
+  comparison?: ReportRun;
+  /**
+   * A pause between two results of a group longer than this many times the group's median
+   * interval is a data gap (default 3): the line breaks there and the gap is shaded.
+   */
+  gapFactor?: number;
+  /** Plot width in pixels (default 860); series are reduced to min/max per pixel column. */
+  plotWidthPx?: number;
+}
+
+/** A health alarm's active span, for the timeline. */
+export interface ActiveSpan {
+  alarm_id: string;
+  label: string;
+  level: string;
+  fromMs: number;
+  /** null = still active at the end of the report. */
+  toMs: number | null;
+}

@@ -1,0 +1,73 @@
+/** Starts a local HTTP receiver (node:http on a free 127.0.0.1 port) for the webhook delivery. */
+import { afterEach, describe, expect, it } from 'vitest';
+import { createWebhookDelivery } from '../../src/alarms/routing/webhook-delivery.js';
+import { selectDeliveries, type Delivery } from '../../src/alarms/routing/select.js';
+import { createAlarmEngine } from '../../src/alarms/engine/engine.js';
+import { config, lookups, result, T0 } from '../alarms/fixtures.js';
+import { startReceiver } from '../alarms/support/http-receiver.js';
+
+const stops: (() => Promise<void>)[] = [];
+afterEach(async () => {
+  while (stops.length > 0) await stops.pop()!();
+});
+
+async function deliveryTo(url: string, channel: { timeout_ms?: number; max_attempts?: number; backoff_ms?: number } = {}): Promise<Delivery> {
+  const cfg = config({
+    recipients: [{ id: 'deck-crew', kind: 'crew', channels: [{ kind: 'webhook', url, timeout_ms: 300, max_attempts: 3, backoff_ms: 20, ...channel }] }],
+    routes: [{ match: {}, tiers: [['deck-crew']] }],
+  });
+  const t = createAlarmEngine(cfg, { ...lookups, loggers: new Map() }).step({ type: 'result', result: result(T0, 210) }).transitions[0];
+  return selectDeliveries(cfg, t)[0];
+}
+
+describe('webhook delivery (local HTTP receiver)', () => {
+  it('POSTs the JSON message and records the attempt', async () => {
+    const rx = await startReceiver();
+    stops.push(rx.stop);
+    const rec = await createWebhookDelivery({ now: () => performance.now() })(await deliveryTo(rx.url));
+    expect(rec).toMatchObject({ status: 'delivered', attemptCount: 1, recipientId: 'deck-crew', target: rx.url, transition: 'raised' });
+    expect(rec.attempts[0]).toMatchObject({ attempt: 1, httpStatus: 200, error: null });
+    expect(rx.received).toHaveLength(1);
+    expect(rx.received[0].headers['content-type']).toBe('application/json');
+    expect(rx.received[0].body).toMatchObject({ alarm_id: 'brannock-mere:vm-girder:g:S1-MID-G2:1', level: 'alert', value: 210, limit: 200 });
+  });
+
+  it('retries 503 with doubling backoff until it is accepted', async () => {
+    const rx = await startReceiver((n) => ({ status: n < 3 ? 503 : 204 }));
+    stops.push(rx.stop);
+    const sleeps: number[] = [];
+    const rec = await createWebhookDelivery({ now: () => performance.now(), sleep: async (ms) => void sleeps.push(ms) })(await deliveryTo(rx.url));
+    expect(rec.status).toBe('delivered');
+    expect(rec.attempts.map((a) => a.httpStatus)).toEqual([503, 503, 204]);
+    expect(sleeps).toEqual([20, 40]);
+  });
+
+  it('does not retry a 400; gives up after max_attempts timeouts, each cut by AbortSignal.timeout', async () => {
+    const bad = await startReceiver(() => ({ status: 400 }));
+    stops.push(bad.stop);
+    const deliver = createWebhookDelivery({ now: () => performance.now() });
+    const r400 = await deliver(await deliveryTo(bad.url));
+    expect(r400).toMatchObject({ status: 'failed', attemptCount: 1 });
+    expect(r400.attempts[0]).toMatchObject({ httpStatus: 400, error: 'HTTP 400' });
+
+    const slow = await startReceiver(() => ({ status: 200, delayMs: 2000 }));
+    stops.push(slow.stop);
+    const rSlow = await deliver(await deliveryTo(slow.url, { timeout_ms: 150, max_attempts: 2 }));
+    expect(rSlow).toMatchObject({ status: 'failed', attemptCount: 2 });
+    for (const a of rSlow.attempts) {
+      expect(a.httpStatus).toBeNull();
+      expect(a.error).toMatch(/TimeoutError/);
+      expect(a.latencyMs).toBeGreaterThanOrEqual(140);
+      expect(a.latencyMs).toBeLessThan(1500);
+    }
+  });
+
+  it('records a refused connection as a failed attempt without throwing', async () => {
+    const rx = await startReceiver();
+    const url = rx.url;
+    await rx.stop();
+    const rec = await createWebhookDelivery({ now: () => performance.now(), sleep: async () => undefined })(await deliveryTo(url));
+    expect(rec).toMatchObject({ status: 'failed', attemptCount: 3 });
+    expect(rec.attempts[0].httpStatus).toBeNull();
+  });
+});

@@ -1,5 +1,7 @@
 import { Command } from 'commander';
 import { calcCommand } from './commands/calc.js';
+import { recordCommand } from './commands/record.js';
+import { replayCommand } from './commands/replay.js';
 import { runCommand } from './commands/run.js';
 import { exitCodeFor } from './errors.js';
 
@@ -9,7 +11,9 @@ export async function main(argv: string[]): Promise<number> {
     .description('strain-gauge readings to temperature-compensated stresses, principal values and alarms')
     .exitOverride()
     .addCommand(calcCommand())
-    .addCommand(runCommand());
+    .addCommand(runCommand())
+    .addCommand(recordCommand())
+    .addCommand(replayCommand());
   try {
     await program.parseAsync(argv);
     return 0;

@@ -1,0 +1,65 @@
+import { resolve } from 'node:path';
+import { Command } from 'commander';
+import pino from 'pino';
+import { z } from 'zod';
+import { CaptureWriter } from '../../adapters/capture/capture-writer.js';
+import { connectMqtt } from '../../adapters/mqtt/connection.js';
+import { loadRuntimeFile } from '../../config/load-runtime.js';
+import { compileTopicPattern, subscriptionFilter } from '../../ingest/topic.js';
+import { parseOptions } from '../options.js';
+
+export const RecordOptionsSchema = z.strictObject({
+  config: z.string().min(1),
+  dir: z.string().min(1).optional(),
+  flushMs: z.coerce.number().int().positive().default(1000),
+});
+
+/**
+ * `strainward record`: the raw capture without processing. Its own client id (`<client_id>-recorder`)
+ * and session, so it never takes messages from the processor. A message is acknowledged once the
+ * capture file holding it is flushed and synced.
+ */
+export function recordCommand(): Command {
+  return new Command('record')
+    .description('record every message of the structure\'s topics to a raw capture, without processing')
+    .requiredOption('-c, --config <file>', 'runtime configuration (broker, topic layout, capture settings)')
+    .option('--dir <dir>', 'capture directory (default: the runtime configuration\'s capture.dir)')
+    .option('--flush-ms <ms>', 'flush and sync the capture this often', '1000')
+    .action(async (raw: unknown) => {
+      const o = parseOptions(RecordOptionsSchema, raw);
+      const log = pino({ name: 'strainward-record' }, pino.destination(2));
+      const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
+      const dir = resolve(baseDir, o.dir ?? rc.capture?.dir ?? 'var/capture');
+      const capture = await CaptureWriter.open({
+        dir, rotateBytes: rc.capture?.rotate_bytes ?? 64 * 1024 ** 2, rotateEvery_ms: (rc.capture?.rotate_every_s ?? 3600) * 1000, now: Date.now,
+        retention: { maxAge_h: rc.capture?.retention_hours, maxBytes: rc.capture?.retention_bytes },
+      });
+      const pattern = compileTopicPattern(rc.mqtt.topic_pattern);
+      const connection = await connectMqtt({
+        url: rc.mqtt.url, clientId: `${rc.mqtt.client_id}-recorder`, protocolVersion: rc.mqtt.protocol_version,
+        fallbackToV311: rc.mqtt.fallback_to_v311, username: rc.mqtt.username,
+        password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
+        subscriptions: [subscriptionFilter(pattern, structure.structureId)],
+      }, { now: Date.now, log: (event, detail) => log.info({ event, ...detail }) });
+      let pendingAcks: Array<() => void> = [];
+      let recorded = 0;
+      const sub = connection.messages$.subscribe((m) => {
+        capture.append(m.raw);
+        pendingAcks.push(() => m.ack());
+        recorded++;
+      });
+      const timer = setInterval(() => {
+        const acks = pendingAcks;
+        pendingAcks = [];
+        capture.flush().then(() => acks.forEach((a) => a()), (e) => log.error({ event: 'capture_failed', message: String(e) }));
+      }, o.flushMs);
+      log.info({ event: 'recording', dir, structure: structure.structureId });
+      await new Promise<void>((done) => { process.once('SIGINT', done); process.once('SIGTERM', done); });
+      clearInterval(timer);
+      sub.unsubscribe();
+      await capture.close();
+      pendingAcks.forEach((a) => a());
+      await connection.close();
+      log.info({ event: 'stopped', recorded });
+    });
+}

@@ -1,0 +1,106 @@
+import { writeFile } from 'node:fs/promises';
+import { resolve } from 'node:path';
+import { Command } from 'commander';
+import { z } from 'zod';
+import { readCapture } from '../../adapters/capture/capture-reader.js';
+import { readCaptureIndex } from '../../adapters/capture/capture-index.js';
+import { NdjsonFileDeadLetterSink } from '../../adapters/deadletter/ndjson-file-sink.js';
+import { LineFileSink } from '../../adapters/lineproto/file-sink.js';
+import { loadStructureFile } from '../../config/load.js';
+import { loadRuntimeFile } from '../../config/load-runtime.js';
+import { ProgressBar } from '../../app/progress.js';
+import { replay, type ReplaySummary } from '../../app/replay.js';
+import { ensureParent, openPointSink } from '../../app/sinks.js';
+import { MemorySink } from '../../adapters/memory-sink.js';
+import { renderReport } from '../../report/render-report.js';
+import type { CompiledStructure } from '../../config/compile.js';
+import type { PointSink } from '../../model/point.js';
+import { parseOptions } from '../options.js';
+import { UsageError } from '../errors.js';
+
+const isoTime = z.string().refine((s) => Number.isFinite(Date.parse(s)), 'expected an ISO 8601 time, e.g. 2026-11-30T06:00:00Z');
+
+export const ReplayOptionsSchema = z.strictObject({
+  capture: z.string().min(1),
+  config: z.string().min(1).optional(),
+  structure: z.string().min(1).optional(),
+  from: isoTime.optional(),
+  to: isoTime.optional(),
+  speed: z.coerce.number().min(0).default(0),
+  out: z.string().min(1).default('var/replay'),
+  database: z.boolean().default(false),
+  runTag: z.string().regex(/^[A-Za-z0-9_.-]+$/, 'letters, digits, "_", "-" or "." only').default('replay'),
+  report: z.string().min(1).optional(),
+  compareStructure: z.string().min(1).optional(),
+  tickMs: z.coerce.number().int().positive().default(1000),
+  progress: z.boolean().optional(),
+}).refine((o) => o.config !== undefined || o.structure !== undefined, { message: 'give --config (runtime file) or --structure', path: ['structure'] })
+  .refine((o) => !o.database || o.config !== undefined, { message: '--database needs --config (it names the database)', path: ['database'] });
+
+/** `strainward replay`: a capture, or a window of it, through the live pipeline with any configuration. */
+export function replayCommand(): Command {
+  return new Command('replay')
+    .description('feed a raw capture through exactly the live pipeline, with the same or a corrected configuration')
+    .requiredOption('--capture <dir>', 'capture directory (written by `run` or `record`)')
+    .option('-c, --config <file>', 'runtime configuration: structure, topic layout, tick, database')
+    .option('-s, --structure <file>', 'structure configuration to use instead of the runtime one (corrected zeros, new limits...)')
+    .option('--from <iso>', 'start of the window (arrival time, inclusive)')
+    .option('--to <iso>', 'end of the window (arrival time, exclusive)')
+    .option('--speed <factor>', '0 = as fast as possible, 1 = real time, 10 = ten times faster', '0')
+    .option('--out <dir>', 'line-protocol output directory', 'var/replay')
+    .option('--database', 'write to the runtime configuration\'s database instead, tagged run=<run-tag>')
+    .option('--run-tag <name>', 'tag on every point so live data is never overwritten', 'replay')
+    .option('--report <file>', 'write a diagnosis report (HTML) of the replay')
+    .option('--compare-structure <file>', 'replay again with this structure configuration and compare in the report')
+    .option('--tick-ms <ms>', 'pipeline clock tick on the arrival-time grid', '1000')
+    .option('--progress', 'show a progress bar (default when stderr is a terminal)')
+    .action(async (raw: unknown) => {
+      const o = parseOptions(ReplayOptionsSchema, raw);
+      const loaded = o.config ? await loadRuntimeFile(o.config, o.structure) : null;
+      const structure = loaded?.structure ?? await loadStructureFile(o.structure!);
+      const window = { fromMs: o.from ? Date.parse(o.from) : undefined, toMs: o.to ? Date.parse(o.to) : undefined };
+      const total = await countInWindow(o.capture, window);
+      const showProgress = o.progress ?? Boolean(process.stderr.isTTY);
+      let clockMs = 0; // output files are named by data time, so a replay's output is the same run after run
+      const run = async (s: CompiledStructure, tag: string, sink: PointSink, collect: boolean): Promise<ReplaySummary> => {
+        const bar = showProgress ? new ProgressBar(total, process.stderr, Date.now, tag) : null;
+        const summary = await replay({
+          structure: s, messages: readCapture(o.capture, window), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
+          deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
+          topicPattern: loaded?.runtime.mqtt.topic_pattern, collectResults: collect,
+          sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
+          onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
+        });
+        bar?.finish(summary.messages);
+        return summary;
+      };
+      const sink = o.database
+        ? (await openPointSink(loaded!.runtime, loaded!.baseDir, Date.now)).sink
+        : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
+      const first = await run(structure, o.runTag, sink, o.report !== undefined);
+      process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused\n`);
+      if (o.report) {
+        const second = o.compareStructure
+          ? await run(await loadStructureFile(o.compareStructure), `${o.runTag}-compare`, new MemorySink(), true)
+          : null;
+        const html = renderReport({
+          title: `${structure.config.structure.name} - replay ${o.runTag}`, structureId: structure.structureId, generatedAtMs: Date.now(),
+          run: { label: o.structure ?? 'configuration', results: first.collected }, alarms: [],
+          comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
+        });
+        await writeFile(await ensureParent(o.report), html);
+        process.stderr.write(`report written to ${o.report}\n`);
+      }
+    });
+}
+
+async function countInWindow(dir: string, w: { fromMs?: number; toMs?: number }): Promise<number> {
+  try {
+    const index = await readCaptureIndex(dir);
+    return index.files
+      .filter((f) => (w.toMs === undefined || f.firstArrivalMs < w.toMs) && (w.fromMs === undefined || f.lastArrivalMs >= w.fromMs))
+      .reduce((n, f) => n + f.count, 0);
+  } catch {
+    throw new UsageError(`no capture index in ${dir}`);
+  }
+}

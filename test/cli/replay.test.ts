@@ -1,0 +1,83 @@
+import { mkdtemp, readdir, readFile, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { parse, stringify } from 'yaml';
+import { beforeAll, describe, expect, it, vi } from 'vitest';
+import { decodeLines } from '../../src/adapters/lineproto/decode.js';
+import { main } from '../../src/cli/main.js';
+import { loadStructureFile } from '../../src/config/load.js';
+import { defaultScenario } from '../../simulators/default-scenario.js';
+import { captureSink } from '../../simulators/outputs.js';
+import { createSimulation } from '../../simulators/run.js';
+
+async function run(args: string[]): Promise<number> {
+  const e = vi.spyOn(process.stderr, 'write').mockImplementation(() => true);
+  try { return await main(['node', 'strainward', ...args]); } finally { e.mockRestore(); }
+}
+
+async function readOutput(dir: string): Promise<string> {
+  const files = (await readdir(dir)).filter((f) => f.endsWith('.lp')).sort();
+  return (await Promise.all(files.map((f) => readFile(join(dir, f), 'utf8')))).join('');
+}
+
+describe('strainward replay', () => {
+  let dir: string;
+  let truthCount = 0;
+  const start = Date.UTC(2026, 5, 1, 6);
+
+  beforeAll(async () => {
+    dir = await mkdtemp(join(tmpdir(), 'sw-replay-'));
+    const structure = await loadStructureFile('config/brannock-mere.yaml');
+    // Noise-free, fault-free, two minutes: the true answer is known for every result.
+    const scn = defaultScenario({ seed: 7, start_ms: start, duration_s: 120, day_s: 600, faults: [], noise: false });
+    const sim = createSimulation(structure, scn);
+    const sink = await captureSink(join(dir, 'capture'));
+    for (const scan of sim.scans()) {
+      await sink.send(scan);
+      truthCount += scan.truth.length;
+    }
+    await sink.close();
+  });
+
+  it('gives byte-identical results from the same capture and configuration, run after run', async () => {
+    const a = join(dir, 'a'), b = join(dir, 'b');
+    expect(await run(['replay', '--capture', join(dir, 'capture'), '-s', 'config/brannock-mere.yaml', '--out', a, '--run-tag', 'r1'])).toBe(0);
+    expect(await run(['replay', '--capture', join(dir, 'capture'), '-s', 'config/brannock-mere.yaml', '--out', b, '--run-tag', 'r1'])).toBe(0);
+    const [ta, tb] = [await readOutput(a), await readOutput(b)];
+    expect(ta.length).toBeGreaterThan(10_000);
+    expect(ta).toBe(tb);
+    const results = decodeLines(ta).filter((p) => p.measurement === 'sw_result');
+    expect(results.length).toBe(truthCount);
+    expect(results.every((p) => p.tags.run === 'r1')).toBe(true);
+    expect(await readdir(a)).toEqual(await readdir(b));
+  });
+
+  it('replays a corrected configuration: a changed zero reading shifts exactly that gauge', async () => {
+    const doc = parse(await readFile('config/brannock-mere.yaml', 'utf8'), { merge: true });
+    const gauge = doc.gauges.find((g: { id: string }) => g.id === 'sg-sm-a');
+    gauge.zero_reading = 50; // microstrain: the single flange gauge reads 50 less mechanical strain
+    const corrected = join(dir, 'corrected.yaml');
+    await writeFile(corrected, stringify(doc));
+    const out = join(dir, 'c');
+    const report = join(dir, 'report.html');
+    expect(await run(['replay', '--capture', join(dir, 'capture'), '-s', 'config/brannock-mere.yaml', '--out', out,
+      '--report', report, '--compare-structure', corrected])).toBe(0);
+    const html = await readFile(report, 'utf8');
+    expect(html).toContain('flange-south-mid1');
+    expect(html).toContain(corrected);
+    // 50 microstrain less indicated on steel, E = 210000 MPa, nu = 0.3, gauge Kt = 0.009 calibrated at nu0 = 0.285:
+    // under uniaxial stress the gauge reads eps (1 - nu Kt) / (1 - nu0 Kt) (transverse sensitivity, Dally and Riley,
+    // Experimental Stress Analysis), so sigma changes by -E 50e-6 (1 - nu0 Kt) / (1 - nu Kt) = -10.5014 MPa.
+    const row = (group: string, quantity: string) => {
+      const m = html.match(new RegExp(`<tr data-group="${group}" data-quantity="${quantity}">.*?</tr>`));
+      expect(m, `${group} ${quantity}`).not.toBeNull();
+      return [...m![0].matchAll(/data-value="([^"]+)"/g)].map((x) => Number(x[1]));
+    };
+    const [mean, maxAbs] = row('flange-south-mid1', 'stress_axial_MPa');
+    const expected = (-210000 * 50e-6 * (1 - 0.285 * 0.009)) / (1 - 0.3 * 0.009);
+    expect(mean).toBeCloseTo(expected, 9); // data-value carries the full double
+    expect(maxAbs).toBeCloseTo(-expected, 9);
+    // Every other group is untouched by the correction.
+    expect(row('web-north-pier', 'von_mises_MPa')[1]).toBe(0);
+  });
+});

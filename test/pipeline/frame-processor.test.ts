@@ -1,0 +1,77 @@
+import { describe, expect, it } from 'vitest';
+import { compileOrThrow, baseDoc, microGauge } from '../support/structures.js';
+import { FrameProcessor } from '../../src/pipeline/frame-processor.js';
+import type { LoggerFrame } from '../../src/model/raw-message.js';
+
+/** A single steel gauge on logger `lg`, a thermocouple on logger `th`; join settings vary per test. */
+function structure(temperature: Record<string, unknown>) {
+  const doc = baseDoc(
+    [{ id: 'one', kind: 'single', material: 'steel', zone: 'z', location: 'bench', elements: [{ gauge: 'g' }], temperature_sensors: ['tc'], temperature }],
+    [microGauge('g', 'c1')],
+    {
+      loggers: [{ id: 'lg', expected_interval_s: 1 }, { id: 'th', expected_interval_s: 10 }],
+      temperature_sensors: [{ id: 'tc', kind: 'thermocouple', channel: { logger: 'th', channel: 't' } }],
+    },
+  );
+  return compileOrThrow(doc);
+}
+
+const frame = (loggerId: string, timeMs: number, values: Record<string, number | null>, arrivalMs = timeMs): LoggerFrame =>
+  ({ structureId: 'test-structure', loggerId, timeMs, seq: null, values: new Map(Object.entries(values)), arrivalMs });
+
+describe('FrameProcessor', () => {
+  it('computes at the last temperature and flags it stale beyond max_age_s', () => {
+    const p = new FrameProcessor<string>(structure({ mode: 'last', max_age_s: 30 }));
+    p.onFrame(frame('th', 0, { t: 30 }), 'th0', 0);
+    const [fresh] = p.onFrame(frame('lg', 10_000, { c1: 100 }), 'a', 10_000);
+    expect(fresh.results[0].values.temperature_degC).toBe(30);
+    expect(fresh.results[0].values.temperature_age_s).toBe(10);
+    expect(fresh.results[0].flags).toEqual([]);
+    const [stale] = p.onFrame(frame('lg', 40_001, { c1: 100 }), 'b', 40_001);
+    expect(stale.results[0].flags).toEqual(['temperature_stale']);
+    // Microstrain gauge with no thermal output is matched to its host: stress = E eps (Hooke's law).
+    expect(stale.results[0].values.stress_axial_MPa).toBeCloseTo(21, 12);
+  });
+
+  it('holds a frame for a later temperature, interpolates, and keeps order per logger', () => {
+    const p = new FrameProcessor<string>(structure({ mode: 'interpolate', max_age_s: 60, max_wait_s: 5 }));
+    p.onFrame(frame('th', 0, { t: 10 }), 'th0', 0);
+    expect(p.onFrame(frame('lg', 2_000, { c1: 1 }), 'a', 2_000)).toEqual([]);
+    expect(p.onFrame(frame('lg', 3_000, { c1: 2 }), 'b', 3_000)).toEqual([]);
+    const done = p.onFrame(frame('th', 4_000, { t: 20 }), 'th1', 4_000);
+    expect(done.map((d) => d.message)).toEqual(['a', 'b', 'th1']);
+    expect(done[0].results[0].values.temperature_degC).toBeCloseTo(15, 12);
+    expect(done[1].results[0].values.temperature_degC).toBeCloseTo(17.5, 12);
+  });
+
+  it('stops waiting when max_wait_s of pipeline clock has passed, and falls back to the last reading', () => {
+    const p = new FrameProcessor<string>(structure({ mode: 'interpolate', max_age_s: 60, max_wait_s: 5 }));
+    p.onFrame(frame('th', 0, { t: 10 }), 'th0', 0);
+    expect(p.onFrame(frame('lg', 1_000, { c1: 1 }), 'a', 1_000)).toEqual([]);
+    expect(p.onTick(5_999)).toEqual([]);
+    const [released] = p.onTick(6_000);
+    expect(released.message).toBe('a');
+    expect(released.results[0].values.temperature_degC).toBe(10);
+    expect(p.flush()).toEqual([]);
+  });
+
+  it('flags a missing temperature, or withholds the stress when configured to', () => {
+    const computed = new FrameProcessor<string>(structure({ mode: 'last' })).onFrame(frame('lg', 0, { c1: 100 }), 'a', 0)[0].results[0];
+    expect(computed.flags).toEqual(['temperature_missing']);
+    expect(computed.values.stress_axial_MPa).toBeCloseTo(21, 12);
+    const p = new FrameProcessor<string>(structure({ mode: 'last', withhold_when_missing: true }));
+    const withheld = p.onFrame(frame('lg', 0, { c1: 100 }), 'a', 0)[0].results[0];
+    expect(withheld.flags).toEqual(['temperature_missing']);
+    expect(withheld.values).toEqual({});
+    expect(p.counts.withheldResults).toBe(1);
+  });
+
+  it('flags a missing element and refuses out-of-range temperatures', () => {
+    const p = new FrameProcessor<string>(structure({ mode: 'last' }));
+    p.onFrame(frame('th', 0, { t: 500 }), 'th0', 0); // beyond the default valid range [-50, 100] degC
+    expect(p.counts.temperatureRejected).toBe(1);
+    const r = p.onFrame(frame('lg', 0, { c1: null }), 'a', 0)[0].results[0];
+    expect(r.flags).toEqual(['temperature_missing', 'element_missing', 'underdetermined']);
+    expect(r.values.stress_axial_MPa).toBeUndefined();
+  });
+});

@@ -12,7 +12,7 @@ import { join } from 'node:path';
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import { InfluxSink, openInfluxSink, type InfluxSinkOptions } from '../../src/adapters/influx/influx-sink.js';
 import { SpoolFullError, type SpoolOptions } from '../../src/adapters/spool/spool.js';
-import { startRecordingProxy } from '../adapters/influx/recording-proxy.js';
+import { startRecordingProxy } from '../support/recording-proxy.js';
 import { readBackFromVictoria, sampleCount } from '../adapters/influx/vm-read-back.js';
 import { expectSamePoints, samplePoints, uniqueMeasurement } from '../adapters/sink-contract.js';
 import { freePort, startVictoriaMetrics, type VictoriaMetricsServer } from '../support/servers.js';

@@ -10,11 +10,14 @@ export interface RecordingProxy {
   url: string;
   /** Timestamps (ms) of accepted lines, in the order the database accepted them. Mutated as requests pass. */
   acceptedTimes: number[];
+  /** The accepted lines themselves, full precision, in arrival order. Mutated as requests pass. */
+  acceptedLines: string[];
   stop(): Promise<void>;
 }
 
 export async function startRecordingProxy(targetUrl: string): Promise<RecordingProxy> {
   const acceptedTimes: number[] = [];
+  const acceptedLines: string[] = [];
   const server = createServer((req, res) => {
     const chunks: Buffer[] = [];
     req.on('data', (c: Buffer) => chunks.push(c));
@@ -24,7 +27,11 @@ export async function startRecordingProxy(targetUrl: string): Promise<RecordingP
       try {
         const upstream = await fetch(targetUrl + req.url, { method: req.method, body: req.method === 'POST' ? body : undefined });
         if (upstream.ok) {
-          for (const line of body.toString('utf8').split('\n')) if (line !== '') acceptedTimes.push(Number(line.slice(line.lastIndexOf(' ') + 1)));
+          for (const line of body.toString('utf8').split('\n')) {
+            if (line === '') continue;
+            acceptedTimes.push(Number(line.slice(line.lastIndexOf(' ') + 1)));
+            acceptedLines.push(line);
+          }
         }
         res.writeHead(upstream.status);
         res.end(await upstream.text());
@@ -39,6 +46,7 @@ export async function startRecordingProxy(targetUrl: string): Promise<RecordingP
   return {
     url: `http://127.0.0.1:${port}`,
     acceptedTimes,
+    acceptedLines,
     stop: () => new Promise((resolve) => server.close(() => resolve())),
   };
 }

@@ -1,0 +1,145 @@
+/**
+ * End to end with the simulator's ground truth. Starts real Mosquitto and VictoriaMetrics on free
+ * loopback ports (and a recording proxy in front of the database, to see the written lines at full
+ * precision); the simulator publishes a compressed day of the invented deck with every fault kind;
+ * the live processor records a raw capture while it runs; the capture is then replayed.
+ */
+import { mkdtemp } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { decodeLines } from '../../src/adapters/lineproto/decode.js';
+import { encodeLines } from '../../src/adapters/lineproto/encode.js';
+import { readCapture } from '../../src/adapters/capture/capture-reader.js';
+import { MemorySink } from '../../src/adapters/memory-sink.js';
+import { startLive } from '../../src/app/live.js';
+import { replay } from '../../src/app/replay.js';
+import type { CompiledStructure } from '../../src/config/compile.js';
+import { loadStructureFile } from '../../src/config/load.js';
+import { parseRuntimeConfig } from '../../src/config/load-runtime.js';
+import { evaluateGroup } from '../../src/mechanics/evaluate-group.js';
+import { createGroupOutput } from '../../src/mechanics/group-model.js';
+import type { Point } from '../../src/model/point.js';
+import { defaultScenario } from '../../simulators/default-scenario.js';
+import { stressNoiseSd } from '../../simulators/noise-model.js';
+import { mqttSink, runSimulation } from '../../simulators/outputs.js';
+import { createSimulation, type SimScan } from '../../simulators/run.js';
+import type { Scenario } from '../../simulators/scenario.js';
+import { startRecordingProxy, type RecordingProxy } from '../support/recording-proxy.js';
+import { startMosquitto, startVictoriaMetrics } from '../support/servers.js';
+
+const START = Date.UTC(2026, 5, 1, 5, 0, 0);
+const GROUP_FIELDS: Record<string, string[]> = {
+  plane_rosette: ['stress_xx_MPa', 'stress_yy_MPa', 'stress_xy_MPa'],
+  single: ['stress_axial_MPa'],
+  solid_cluster: ['stress_xx_MPa', 'stress_yy_MPa', 'stress_zz_MPa', 'stress_yz_MPa', 'stress_xz_MPa', 'stress_xy_MPa'],
+};
+
+describe('a simulated compressed day through the live pipeline', () => {
+  let broker: Awaited<ReturnType<typeof startMosquitto>>;
+  let vm: Awaited<ReturnType<typeof startVictoriaMetrics>>;
+  let proxy: RecordingProxy;
+  let structure: CompiledStructure;
+  let dir: string;
+  let scans: SimScan[];
+  let liveResults: Point[];
+  let scn: Scenario;
+
+  beforeAll(async () => {
+    [broker, vm] = await Promise.all([startMosquitto(), startVictoriaMetrics()]);
+    proxy = await startRecordingProxy(vm.url);
+    dir = await mkdtemp(join(tmpdir(), 'sw-day-'));
+    structure = await loadStructureFile('config/brannock-mere.yaml');
+    const rc = parseRuntimeConfig({
+      schema_version: 1, structure: 'unused',
+      mqtt: { url: broker.url, client_id: 'strainward-test-day' },
+      database: { url: proxy.url, org: 'test', bucket: 'live', spool: { dir: join(dir, 'spool') }, flush_interval_ms: 50 },
+      dead_letters: { file: join(dir, 'deadletters.ndjson') },
+      capture: { dir: join(dir, 'capture'), flush_every_ms: 200 },
+      tick_ms: 200,
+    }, 'test');
+    const live = await startLive({ runtime: rc, structure, baseDir: dir }, { now: Date.now, log: () => {} });
+    // 120 s of logger time at half the configured scan rates, published 12 times faster than real time.
+    // A 24 h temperature cycle over 3600 s keeps the temperature change between thermocouple scans small.
+    scn = defaultScenario({ seed: 42, start_ms: START, duration_s: 120, day_s: 3600, rate_factor: 0.5 });
+    const sim = createSimulation(structure, scn);
+    scans = [...sim.scans()];
+    await runSimulation(sim, scn, {
+      outDir: join(dir, 'sim'), sinks: [await mqttSink(broker.url)], speed: 12, now: Date.now,
+      sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
+    });
+    const expectedResults = scans.reduce((n, s) => n + s.truth.length, 0);
+    const deadline = Date.now() + 30_000;
+    while ((live.status().frames as { results: number }).results < expectedResults && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
+    await live.stop();
+    liveResults = decodeLines(proxy.acceptedLines.join('\n')).filter((p) => p.measurement === 'sw_result');
+  }, 120_000);
+
+  afterAll(async () => {
+    await proxy?.stop();
+    await Promise.all([broker?.stop(), vm?.stop()]);
+  });
+
+  it('writes one result per group and scan', () => {
+    expect(liveResults.length).toBe(scans.reduce((n, s) => n + s.truth.length, 0));
+  });
+
+  it('matches the truth within the tolerance derived from the noise model', () => {
+    // Derivation: the result error is the reading noise propagated through the reduction
+    // (sd from stressNoiseSd: reading noise and quantisation, through the pseudo-inverse and
+    // stiffness, first order) plus the effect of the temperature the pipeline used differing from the
+    // true one (thermocouple noise, time between thermocouple scans): |d sigma/d T| |T_used - T_true|,
+    // with d sigma/d T taken by finite difference through the core. Bound: 5 sd + that term + 1e-6.
+    // Results carrying a quality flag, or touched by an injected fault, are not accuracy checks.
+    const byKey = new Map(liveResults.map((p) => [`${p.tags.group}@${p.timeMs}`, p]));
+    let checked = 0;
+    let worstRatio = 0;
+    for (const scan of scans) {
+      for (const t of scan.truth) {
+        if (t.faults.length > 0) continue;
+        const p = byKey.get(`${t.group}@${t.logger_ts_ms}`);
+        expect(p, `${t.group} at ${t.logger_ts_ms}`).toBeDefined();
+        if (p!.fields.good !== 1) continue;
+        const g = structure.groupsById.get(t.group)!;
+        const raw = Float64Array.from(g.elementChannels, (ch) => scan.values[ch] ?? Number.NaN);
+        const comp = g.companion ? scan.values[g.companion.channelId] ?? Number.NaN : Number.NaN;
+        const used = p!.fields.temperature_degC;
+        const sd = stressNoiseSd(g.model, raw, used, g.model.elements.map((el) => readingSd(scn, el.signal)), comp,
+          g.model.companion ? readingSd(scn, g.model.companion.signal) : 0);
+        const at = (tc: number) => {
+          const out = createGroupOutput(g.model.m);
+          evaluateGroup(g.model, raw, tc, comp, out);
+          return GROUP_FIELDS[g.config.kind].map((f) => f === 'stress_axial_MPa' ? out.axialStressMPa : out.stressMPa[['xx', 'yy', 'zz', 'yz', 'xz', 'xy'].indexOf(f.slice(7, 9))]);
+        };
+        const dSdT = at(used + 0.5).map((v, k) => (v - at(used - 0.5)[k]));
+        GROUP_FIELDS[g.config.kind].forEach((f, k) => {
+          const err = Math.abs(p!.fields[f] - t.stress_MPa[k]);
+          const tol = 5 * sd[k] + Math.abs(dSdT[k]) * Math.abs(used - t.temperature_degC) + 1e-6;
+          worstRatio = Math.max(worstRatio, err / tol);
+          expect(err, `${t.group} ${f} at ${t.logger_ts_ms}: sd ${sd[k]}`).toBeLessThan(tol);
+        });
+        checked++;
+      }
+    }
+    expect(checked).toBeGreaterThan(1000);
+    expect(worstRatio).toBeGreaterThan(0.05); // the tolerance is not absurdly loose
+  });
+
+  it('replays the capture recorded during the run into exactly the live results', async () => {
+    const sink = new MemorySink();
+    const summary = await replay({
+      structure, messages: readCapture(join(dir, 'capture')), sink, runTag: 'check', tickMs: 200, speed: 0,
+      deadLetters: { write: async () => {} }, sleep: async () => {},
+    });
+    expect(summary.messages).toBe(scans.length);
+    const strip = (points: readonly Point[]) => encodeLines(points.filter((p) => p.measurement === 'sw_result')
+      .map((p) => { const { run: _run, ...tags } = p.tags; return { ...p, tags }; }));
+    expect(strip(sink.points)).toEqual(strip(liveResults));
+  });
+});
+
+/** Effective reading sd of a signal code (0 microstrain, 1 mV/V, 2 Hz, 3 digits): sqrt(sigma^2 + step^2 / 12). */
+function readingSd(scn: Scenario, signal: number): number {
+  const unit = (['microstrain', 'mV/V', 'Hz', 'digits'] as const)[signal];
+  return Math.sqrt(scn.noise.sigma[unit] ** 2 + scn.noise.step[unit] ** 2 / 12);
+}

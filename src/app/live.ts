@@ -1,17 +1,21 @@
 import { resolve } from 'node:path';
-import { asyncScheduler, interval, map, merge, Subject, takeUntil, type SchedulerLike } from 'rxjs';
+import { asyncScheduler, connectable, filter, interval, map, merge, Subject, takeUntil, type SchedulerLike } from 'rxjs';
 import { CaptureWriter } from '../adapters/capture/capture-writer.js';
 import { DeadLetterFanOut } from '../adapters/deadletter/fan-out.js';
 import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
 import { MqttDeadLetterSink } from '../adapters/deadletter/mqtt-sink.js';
 import { NdjsonFileDeadLetterSink } from '../adapters/deadletter/ndjson-file-sink.js';
-import { connectMqtt, type MqttConnection } from '../adapters/mqtt/connection.js';
+import { connectMqtt, type InboundMessage, type MqttConnection } from '../adapters/mqtt/connection.js';
+import { ackTopic, parseAckPayload } from '../alarms/index.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
 import { compileTopicPattern, subscriptionFilter } from '../ingest/topic.js';
 import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
+import type { FrameOutput } from '../pipeline/process-frames.js';
 import { writeAndAck } from '../pipeline/write-and-ack.js';
+import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
+import { alarmLookups } from './lookups.js';
 import { ensureParent, openPointSink } from './sinks.js';
 
 export interface LiveDeps {
@@ -42,12 +46,17 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       retention: { maxAge_h: rc.capture.retention_hours, maxBytes: rc.capture.retention_bytes },
     })
     : null;
+  const alarmsCfg = structure.alarms;
+  const commandTopic = alarmsCfg === null ? null : ackTopic(alarmsCfg, structure.structureId);
+  const lookups = alarmLookups(structure);
+  const alarmFiles = alarmsCfg === null ? null
+    : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file));
   const connection = await connectMqtt({
     url: rc.mqtt.url, clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     username: rc.mqtt.username, password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms,
-    subscriptions: [subscriptionFilter(topicPattern, structure.structureId)],
+    subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
   }, { now: deps.now, log: deps.log });
 
   const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
@@ -58,15 +67,29 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   let writeErrors = 0;
 
   const stop$ = new Subject<void>();
+  // Split by topic before the pipeline: acknowledgement commands never reach the decoder. Both
+  // branches hang off one subject, connected last, so neither misses a message kept for the first subscriber.
+  const inbound$ = connectable(connection.messages$, { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
+  const isCommand = (m: InboundMessage): boolean => m.raw.topic === commandTopic;
   const inputs$ = merge(
-    connection.messages$.pipe(map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
+    inbound$.pipe(filter((m) => !isCommand(m)), map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
     interval(rc.tick_ms, deps.scheduler ?? asyncScheduler).pipe(map((): PipelineInput<PipelineMessage> => ({ kind: 'tick', nowMs: deps.now() }))),
   ).pipe(takeUntil(stop$));
-  const processed$ = inputs$.pipe(pipeline<PipelineMessage>({
+  // Connected once every consumer (alarms, write-and-acknowledge) has subscribed.
+  const processed$ = connectable(inputs$.pipe(pipeline<PipelineMessage>({
     structure, topicPattern, deadLetters, decodeCounts, processor: processor as FrameProcessor<unknown>,
     record: capture ? (raw) => capture.append(raw) : undefined,
     onDeadLetterError: (err) => deps.log('dead_letter_failed', { message: String(err) }),
-  }));
+  })), { connector: () => new Subject<FrameOutput<PipelineMessage>>(), resetOnDisconnect: false });
+  const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, inbound$.pipe(
+    filter(isCommand),
+    // The command is taken at once: a command lost in a crash is sent again by its user, who
+    // waits for the `acknowledged` message; holding it would hold every later PUBACK behind it.
+    map((m): AckEvent => { m.ack(); return parseAckPayload(m.raw.payload, m.raw.arrivalMs); }),
+  ), {
+    cfg: alarmsCfg, lookups, now: deps.now, sink, publish: connection.publish, ...alarmFiles,
+    onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
+  });
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
     processed$.pipe(writeAndAck(sink, {}, 2048, (err) => {
@@ -74,6 +97,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       deps.log('write_failed', { message: err instanceof Error ? err.message : String(err) });
     })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
+  processed$.connect();
+  inbound$.connect();
   const captureFlush = capture ? setInterval(() => { capture.flush().catch((e) => deps.log('capture_failed', { message: String(e) })); }, rc.capture!.flush_every_ms) : null;
 
   return {
@@ -86,11 +111,13 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       database: influx?.status() ?? null,
       lineFiles: lineFiles?.status() ?? null,
       mqtt: connection.stats(),
+      alarms: alarmWiring?.counts() ?? null,
     }),
     async stop() {
       if (captureFlush) clearInterval(captureFlush);
       stop$.next();
       await drained;
+      await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await sink.close();
       await capture?.close();
       await connection.close();

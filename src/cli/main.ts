@@ -1,4 +1,5 @@
 import { Command } from 'commander';
+import { ackCommand } from './commands/ack.js';
 import { calcCommand } from './commands/calc.js';
 import { recordCommand } from './commands/record.js';
 import { replayCommand } from './commands/replay.js';
@@ -12,6 +13,7 @@ export async function main(argv: string[]): Promise<number> {
     .exitOverride()
     .addCommand(calcCommand())
     .addCommand(runCommand())
+    .addCommand(ackCommand())
     .addCommand(recordCommand())
     .addCommand(replayCommand());
   try {

@@ -1,3 +1,4 @@
+import type { AlarmsConfig } from '../alarms/schema.js';
 import type { ChannelDirectory } from '../model/channel-directory.js';
 import type { GroupModel } from '../mechanics/group-model.js';
 import { problemsFromZod, type ValidationProblem } from '../validation/issues.js';
@@ -39,6 +40,8 @@ export interface CompiledStructure {
   groupsByLogger: Map<string, CompiledGroup[]>;
   temperatureSensors: Map<string, TemperatureChannel>;
   materials: Map<string, MaterialModel>;
+  /** The validated `alarms` section (defaults filled in); null when the file has none. */
+  alarms: AlarmsConfig | null;
 }
 
 export type CompileResult = { ok: true; structure: CompiledStructure } | { ok: false; problems: ValidationProblem[] };
@@ -48,7 +51,7 @@ export function compileStructure(input: unknown): CompileResult {
   const parsed = StructureConfigSchema.safeParse(input, { reportInput: true });
   if (!parsed.success) return { ok: false, problems: problemsFromZod(parsed.error) };
   const c = parsed.data;
-  const problems = crossCheck(c);
+  const problems = [...crossCheck(c), ...checkAlarmScopes(c)];
   const materials = new Map<string, MaterialModel>();
   c.materials.forEach((m, i) => {
     const r = compileMaterial(m);
@@ -102,8 +105,28 @@ export function compileStructure(input: unknown): CompileResult {
       groupsByLogger,
       temperatureSensors: sensorById,
       materials,
+      alarms: c.alarms ?? null,
     },
   };
+}
+
+/** Alarm rule scopes must name groups and zones the structure has (a typo would silently watch nothing). */
+function checkAlarmScopes(c: StructureConfig): ValidationProblem[] {
+  const problems: ValidationProblem[] = [];
+  const groupIds = new Set(c.groups.map((g) => g.id));
+  const zones = new Set(c.groups.map((g) => g.zone));
+  c.alarms?.rules.forEach((rule, i) => {
+    const at = `alarms.rules[${i}].scope`;
+    if (rule.scope.kind === 'zone' && !zones.has(rule.scope.zone)) {
+      problems.push({ path: `${at}.zone`, reason: `unknown zone "${rule.scope.zone}" (zones: ${[...zones].join(', ')})` });
+    }
+    if (rule.scope.kind === 'groups') {
+      rule.scope.group_ids.forEach((id, j) => {
+        if (!groupIds.has(id)) problems.push({ path: `${at}.group_ids[${j}]`, reason: `unknown group "${id}"` });
+      });
+    }
+  });
+  return problems;
 }
 
 /** Named error for the CLI: carries every problem; the CLI maps it to an exit code. */

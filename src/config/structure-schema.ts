@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { IdSchema, MaterialSchema } from './material-schema.js';
 import { GaugeSchema, TemperatureSensorSchema } from './gauge-schema.js';
 import { GroupSchema } from './group-schema.js';
+import { AlarmsConfigSchema } from '../alarms/schema.js';
 
 /**
  * One instrumented structure: materials, loggers, gauges, temperature sensors and gauge groups.
@@ -28,8 +29,8 @@ export const StructureConfigSchema = z.strictObject({
   temperature_sensors: z.array(TemperatureSensorSchema).default([]),
   gauges: z.array(GaugeSchema).min(1),
   groups: z.array(GroupSchema).min(1),
-  /** Alarm rules, routing and health settings (validated by the alarms module). */
-  alarms: z.unknown().optional(),
+  /** Alarm rules, routing and health settings (the alarms module's schema; absent: no alarms). */
+  alarms: AlarmsConfigSchema.optional(),
 });
 
 export type StructureConfig = z.infer<typeof StructureConfigSchema>;

@@ -12,8 +12,16 @@ export interface PipelineTick {
   nowMs: number;
 }
 
-/** What it gives: processed frames, and the ticks passed through in order (alarms need both). */
-export type FrameOutput<M> = ({ kind: 'frame' } & ProcessedFrame<M>) | PipelineTick;
+/**
+ * What it gives, in order: each frame as it is received (instrument health needs it at once, even
+ * while its results wait for temperature), each frame once computed, and the ticks.
+ */
+export type FrameOutput<M> = ({ kind: 'frame' } & ProcessedFrame<M>) | ReceivedFrame | PipelineTick;
+
+export interface ReceivedFrame {
+  kind: 'received';
+  frame: LoggerFrame;
+}
 
 /**
  * RxJS stage around FrameProcessor: joins temperatures, reduces groups, computes stresses. The
@@ -37,6 +45,7 @@ export function processFrames<M>(
           return;
         }
         clockMs = Math.max(clockMs, input.frame.arrivalMs);
+        subscriber.next({ kind: 'received', frame: input.frame });
         emit(processor.onFrame(input.frame, input.message, clockMs));
       },
       error: (e) => subscriber.error(e),

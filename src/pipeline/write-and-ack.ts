@@ -20,7 +20,7 @@ export function writeAndAck<M extends Acknowledgeable>(
   sink: PointSink, options: PointOptions = {}, concurrency = 2048, onWriteError: (err: unknown, p: ProcessedFrame<M>) => void = () => {},
 ): OperatorFunction<FrameOutput<M>, FrameOutput<M>> {
   return mergeMap((p) => {
-    if (p.kind === 'tick') return of(p);
+    if (p.kind !== 'frame') return of(p);
     return sink.write(framePoints(p, options)).then(
       () => { p.message.ack(); return p; },
       (err: unknown) => { onWriteError(err, p); return p; },

@@ -1,0 +1,215 @@
+import { concatMap, connectable, filter, map, merge, Subject, takeUntil, tap, type Observable, type Subscription } from 'rxjs';
+import {
+  alarmBatches, createAlarmEngine, createBatchHandler, loadSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
+  type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
+} from '../alarms/index.js';
+import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, TransitionKind } from '../alarms/types.js';
+import type { Point, PointSink } from '../model/point.js';
+import type { FrameOutput } from '../pipeline/process-frames.js';
+
+/** An acknowledgement command as decoded at the MQTT boundary (`parseAckPayload`'s result). */
+export type AckEvent = { ok: true; ack: Ack } | { ok: false; refusal: AckRefusal };
+
+/** A message the MQTT or webhook recorder kept instead of sending (replay, dry runs). */
+export interface RecordedSend {
+  channel: 'mqtt' | 'webhook';
+  /** Topic or URL. */
+  target: string;
+  /** JSON message body, as it would have been sent. */
+  body: string;
+}
+
+export interface AlarmWiringDeps {
+  cfg: AlarmsConfig;
+  lookups: AlarmLookups;
+  /** Clock for delivery records only (latencies, start times), epoch ms. The engine never reads it. */
+  now: () => number;
+  /** Engine state from a previous run (`loadSnapshot`), restored at subscription. */
+  snapshotJson?: string;
+  /** Snapshot file, rewritten after every batch (absent: not persisted). */
+  snapshotPath?: string;
+  /** Where `sw_alarm` points go (not closed by the wiring: it is usually shared). */
+  sink?: PointSink;
+  /** Extra tags on every `sw_alarm` point, e.g. `{ run: 'replay-3' }`. */
+  pointTags?: Readonly<Record<string, string>>;
+  /** MQTT publish; absent: MQTT deliveries are recorded, not sent. */
+  publish?: Publish;
+  /** `record`: webhook deliveries are recorded, not sent. Default `send`. */
+  webhook?: 'send' | 'record';
+  /** Webhook transport for tests (fetch, sleep). */
+  webhookDeps?: Omit<WebhookDeps, 'now'>;
+  /** Alarm log; the wiring takes it over and closes it in `close()`. */
+  log?: AlarmLog;
+  /** A failure that did not stop the alarms (snapshot, points, log), for the application log. */
+  onError?: (event: string, err: unknown) => void;
+  /** Each handled batch and its delivery records, in order. */
+  onBatch?: (batch: AlarmBatch, records: readonly DeliveryRecord[]) => void;
+}
+
+/** Counters of the alarm wiring; `counts()` returns a copy. */
+export interface AlarmCounts {
+  inputs: number;
+  batches: number;
+  transitions: Record<TransitionKind, number>;
+  /** Refused acknowledgements (bad commands, unknown alarms, users not allowed). */
+  refusals: number;
+  deliveries: { delivered: number; failed: number };
+  /** Alarms active now, and active or cleared-but-unacknowledged. */
+  active: number;
+  visible: number;
+  errors: { snapshot: number; points: number; log: number; stream: number };
+}
+
+export interface AlarmWiring {
+  subscription: Subscription;
+  counts(): AlarmCounts;
+  /** Copies of every visible alarm. */
+  visibleAlarms(): Alarm[];
+  /** What the recorders kept (MQTT without `publish`, webhooks with `record`), in order. Grows. */
+  recorded(): readonly RecordedSend[];
+  /** Stops taking input, waits for queued batches to be handled, closes the log. Idempotent. */
+  close(): Promise<void>;
+}
+
+/** One pipeline output as alarm inputs, in order: a frame first, then each of its results; a tick as a tick. Pure. */
+export function toAlarmInputs(output: FrameOutput<unknown>): AlarmInput[] {
+  if (output.kind === 'tick') return [{ type: 'tick', nowMs: output.nowMs }];
+  // Health sees the frame on arrival; its results follow once computed (they may wait for temperature).
+  if (output.kind === 'received') return [{ type: 'frame', frame: output.frame }];
+  return output.results.map((result): AlarmInput => ({ type: 'result', result }));
+}
+
+/**
+ * Opens what the alarms keep on disk: the engine snapshot (checked now, so a damaged file stops the
+ * start instead of silencing the alarms later) and the alarm log (opened for appending).
+ */
+export async function openAlarmFiles(
+  cfg: AlarmsConfig, lookups: AlarmLookups, snapshotPath: string, logPath: string,
+): Promise<{ snapshotPath: string; snapshotJson?: string; log: AlarmLog }> {
+  const snapshotJson = (await loadSnapshot(snapshotPath)) ?? undefined;
+  if (snapshotJson !== undefined) {
+    try {
+      createAlarmEngine(cfg, lookups, snapshotJson);
+    } catch (err) {
+      throw new Error(`alarm state file ${snapshotPath} cannot be restored: ${err instanceof Error ? err.message : String(err)}`);
+    }
+  }
+  return { snapshotPath, snapshotJson, log: await openAlarmLog(logPath) };
+}
+
+type Item = { kind: 'input'; input: AlarmInput } | { kind: 'refusal'; refusal: AckRefusal };
+type Work = { kind: 'batch'; batch: AlarmBatch } | { kind: 'refusal'; refusal: AckRefusal };
+
+const TRANSITION_KINDS: readonly TransitionKind[] = ['raised', 'level_changed', 'acknowledged', 'cleared', 'escalated', 'suppressed_flapping'];
+
+/**
+ * Alarms on the processed stream, the same live and in replay: pipeline outputs and
+ * acknowledgements merged in arrival order, through the alarm engine; each batch persisted
+ * (snapshot, then `sw_alarm` points) and delivered, strictly in order. A failing snapshot, point
+ * write or log line is counted and reported, and the crews are still told; the stream goes on.
+ * Subscribes at once (to both streams); uses no clock of its own.
+ */
+export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$: Observable<AckEvent>, deps: AlarmWiringDeps): AlarmWiring {
+  const report = (event: string, err: unknown): void => { try { deps.onError?.(event, err); } catch { /* reporting must not stop alarms */ } };
+  const c: AlarmCounts = {
+    inputs: 0, batches: 0, transitions: Object.fromEntries(TRANSITION_KINDS.map((k) => [k, 0])) as Record<TransitionKind, number>,
+    refusals: 0, deliveries: { delivered: 0, failed: 0 }, active: 0, visible: 0, errors: { snapshot: 0, points: 0, log: 0, stream: 0 },
+  };
+  const recorded: RecordedSend[] = [];
+  const log = deps.log === undefined ? undefined : guardedLog(deps.log, (err) => { c.errors.log++; report('alarm_log_failed', err); });
+  const sink = deps.sink === undefined ? undefined : guardedSink(deps.sink, deps.pointTags, (err) => { c.errors.points++; report('alarm_points_failed', err); });
+  const publish: Publish = deps.publish ?? (async (topic, body) => { recorded.push({ channel: 'mqtt', target: topic, body }); });
+  const recordingFetch = (async (url: string | URL | Request, init?: RequestInit) => {
+    recorded.push({ channel: 'webhook', target: String(url), body: String(init?.body ?? '') });
+    return new Response(null, { status: 204 });
+  }) as typeof globalThis.fetch;
+  const dispatcher = createDispatcher(deps.cfg, {
+    mqtt: createMqttDelivery(publish, deps.now),
+    webhook: createWebhookDelivery({ ...deps.webhookDeps, ...(deps.webhook === 'record' ? { fetch: recordingFetch } : {}), now: deps.now }),
+    log, now: deps.now,
+  });
+  const handleBatch = createBatchHandler({ snapshotPath: deps.snapshotPath, dispatcher, sink });
+
+  const persistAndDeliver = async (batch: AlarmBatch): Promise<DeliveryRecord[]> => {
+    try {
+      return await handleBatch(batch);
+    } catch (err) {
+      // Only the snapshot can fail here (sink and log are guarded): telling the crews comes first.
+      c.errors.snapshot++;
+      report('alarm_snapshot_failed', err);
+      if (sink !== undefined && batch.transitions.length > 0) await sink.write(batch.transitions.map(transitionToPoint));
+      return dispatcher.dispatch(batch);
+    }
+  };
+  const handle = async (w: Work): Promise<void> => {
+    if (w.kind === 'refusal') {
+      c.refusals++;
+      await dispatcher.dispatch({ transitions: [], refusals: [w.refusal] });
+      return;
+    }
+    const records = await persistAndDeliver(w.batch);
+    c.batches++;
+    c.refusals += w.batch.refusals.length;
+    for (const t of w.batch.transitions) c.transitions[t.kind]++;
+    for (const r of records) c.deliveries[r.status]++;
+    try { deps.onBatch?.(w.batch, records); } catch (err) { report('alarm_observer_failed', err); }
+  };
+
+  let engine: AlarmEngine | undefined;
+  const closing$ = new Subject<void>();
+  const items$ = connectable(merge(
+    processed$.pipe(concatMap((o) => toAlarmInputs(o).map((input): Item => ({ kind: 'input', input })))),
+    acks$.pipe(map((e): Item => (e.ok ? { kind: 'input', input: e.ack } : { kind: 'refusal', refusal: e.refusal }))),
+  ).pipe(takeUntil(closing$)), { connector: () => new Subject<Item>(), resetOnDisconnect: false });
+  const batches$ = items$.pipe(
+    filter((i): i is Extract<Item, { kind: 'input' }> => i.kind === 'input'),
+    tap(() => { c.inputs++; }),
+    map((i) => i.input),
+    alarmBatches(deps.cfg, deps.lookups, { snapshotJson: deps.snapshotJson, onEngine: (e) => { engine = e; } }),
+    map((batch): Work => ({ kind: 'batch', batch })),
+  );
+  const refusals$ = items$.pipe(filter((i): i is Extract<Item, { kind: 'refusal' }> => i.kind === 'refusal'));
+
+  let resolveDone: () => void = () => {};
+  const done = new Promise<void>((r) => { resolveDone = r; });
+  // Both branches hang off one connected subject, so they see every item in one order.
+  const subscription = merge(batches$, refusals$).pipe(concatMap(handle)).subscribe({
+    complete: resolveDone,
+    error: (err: unknown) => { c.errors.stream++; report('alarm_stream_failed', err); resolveDone(); },
+  });
+  subscription.add(items$.connect());
+
+  let closed: Promise<void> | null = null;
+  return {
+    subscription,
+    counts: () => {
+      const visible = engine?.visibleAlarms() ?? [];
+      return {
+        ...c, transitions: { ...c.transitions }, deliveries: { ...c.deliveries }, errors: { ...c.errors },
+        visible: visible.length, active: visible.filter((a) => a.state.startsWith('active')).length,
+      };
+    },
+    visibleAlarms: () => engine?.visibleAlarms() ?? [],
+    recorded: () => recorded,
+    close: () => {
+      closed ??= (async () => {
+        closing$.next();
+        await done;
+        await deps.log?.close().catch((err: unknown) => { c.errors.log++; report('alarm_log_failed', err); });
+      })();
+      return closed;
+    },
+  };
+}
+
+/** A log whose failures are counted and reported instead of stopping delivery. */
+function guardedLog(log: AlarmLog, failed: (err: unknown) => void): AlarmLog {
+  const guard = <A>(f: (a: A) => Promise<void>) => (a: A) => f(a).catch(failed);
+  return { transition: guard((t) => log.transition(t)), refusal: guard((r) => log.refusal(r)), delivery: guard((d) => log.delivery(d)), close: () => log.close() };
+}
+
+/** A sink adding tags, whose failures are counted and reported; closing it leaves the shared sink open. */
+function guardedSink(sink: PointSink, tags: Readonly<Record<string, string>> | undefined, failed: (err: unknown) => void): PointSink {
+  const tagged = (p: Point): Point => (tags === undefined ? p : { ...p, tags: { ...p.tags, ...tags } });
+  return { write: (points) => sink.write(points.map(tagged)).catch(failed), close: async () => {} };
+}

@@ -42,6 +42,13 @@ export const HealthConfigSchema = z.strictObject({
     .prefault({}),
   /** A reading outside the channel's valid range (open circuit, short, saturated input). */
   out_of_range: z.strictObject(common).prefault({}),
+  /**
+   * The logger's clock against the processor's: offset = logger timestamp - arrival time. Ahead by
+   * more than ahead_s is impossible for a good clock (transport only delays); behind by more than
+   * behind_s is a slow clock or data arriving late (a broker backlog after an outage): both matter,
+   * because temperature is joined to strain by the loggers' timestamps.
+   */
+  clock_offset: z.strictObject({ ...common, ahead_s: Positive.default(2), behind_s: Positive.default(300) }).prefault({}),
   /** A result flagged residual_high (redundant group does not fit a strain state). */
   residual_high: z.strictObject(common).prefault({}),
   /** A result flagged temperature_stale or temperature_missing. */
@@ -58,6 +65,7 @@ export const HEALTH_CHECKS = [
   'flatline',
   'spike',
   'out_of_range',
+  'clock_offset',
   'residual_high',
   'temperature_stale',
   'result_incomplete',

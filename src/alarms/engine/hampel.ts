@@ -6,17 +6,24 @@
  */
 export const MAD_TO_SIGMA = 1.4826;
 
-/** The previous readings (oldest first). Plain JSON. */
+/**
+ * The previous readings (oldest first), and an outlier waiting for the next reading to tell a spike
+ * (it comes back) from a real change such as a vehicle or a step (it stays). Plain JSON.
+ */
 export interface HampelState {
   window: number[];
+  pending?: { x: number; median: number; limit: number } | null;
 }
 
 export interface HampelVerdict {
+  /** True when the previous reading was an isolated spike: an outlier the next reading left. */
   spike: boolean;
-  /** Median of the previous window; null until the window is full. */
+  /** Median the judged reading was compared with; null until the window is full. */
   median: number | null;
   /** Allowed deviation from the median, channel units; null until the window is full. */
   limit: number | null;
+  /** Deviation of the spike from the median (channel units); null when no spike. */
+  deviation: number | null;
 }
 
 /** Median of a list (copies, never mutates the input). */
@@ -26,9 +33,17 @@ export function median(values: readonly number[]): number {
   return s.length % 2 === 1 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
 
+function push(state: HampelState, x: number, windowSamples: number): void {
+  state.window.push(x);
+  if (state.window.length > windowSamples) state.window.splice(0, state.window.length - windowSamples);
+}
+
 /**
- * Judge `x` against the previous windowSamples readings, then append it. Mutates `state`.
- * A spike: |x - median| > max(kMads x 1.4826 x MAD, minDeviation).
+ * Judge `x` against the previous windowSamples readings. An outlier,
+ * |x - median| > max(kMads x 1.4826 x MAD, minDeviation), is held for one reading: if the next one
+ * is back inside the limit it was a spike (reported then, and kept out of the window); if not, it
+ * was a real change (a ramp under traffic, a step) and joins the window. A trailing window alone
+ * would call every fast real change a spike. Mutates `state`.
  */
 export function hampelStep(
   state: HampelState,
@@ -37,14 +52,23 @@ export function hampelStep(
   kMads: number,
   minDeviation: number,
 ): HampelVerdict {
-  let verdict: HampelVerdict = { spike: false, median: null, limit: null };
-  if (state.window.length >= windowSamples) {
-    const med = median(state.window);
-    const mad = median(state.window.map((v) => Math.abs(v - med)));
-    const limit = Math.max(kMads * MAD_TO_SIGMA * mad, minDeviation);
-    verdict = { spike: Math.abs(x - med) > limit, median: med, limit };
+  const pending = state.pending ?? null;
+  state.pending = null;
+  if (pending !== null) {
+    if (Math.abs(x - pending.median) <= pending.limit) {
+      push(state, x, windowSamples);
+      return { spike: true, median: pending.median, limit: pending.limit, deviation: pending.x - pending.median };
+    }
+    push(state, pending.x, windowSamples);
   }
-  state.window.push(x);
-  if (state.window.length > windowSamples) state.window.splice(0, state.window.length - windowSamples);
-  return verdict;
+  if (state.window.length < windowSamples) {
+    push(state, x, windowSamples);
+    return { spike: false, median: null, limit: null, deviation: null };
+  }
+  const med = median(state.window);
+  const mad = median(state.window.map((v) => Math.abs(v - med)));
+  const limit = Math.max(kMads * MAD_TO_SIGMA * mad, minDeviation);
+  if (Math.abs(x - med) > limit) state.pending = { x, median: med, limit };
+  else push(state, x, windowSamples);
+  return { spike: false, median: med, limit, deviation: null };
 }

@@ -20,6 +20,15 @@ export function evaluateFrame(ctx: EngineContext, f: LoggerFrame): AlarmTransiti
       logger.zone, logger.location, 'silence_s', 's');
     out.push(...evaluate(ctx, d, healthEvaluation(ctx, 'no_data', false, f.arrivalMs, 0, null)));
   }
+  const clock = ctx.cfg.health.clock_offset;
+  if (clock.enabled) {
+    const offsetS = (f.timeMs - f.arrivalMs) / 1000;
+    const ahead = offsetS > clock.ahead_s;
+    const d = healthDescriptor(ctx, 'clock_offset', `l:${f.loggerId}`, { kind: 'logger', loggerId: f.loggerId },
+      logger.zone, logger.location, 'clock_offset_s', 's');
+    out.push(...evaluate(ctx, d, healthEvaluation(ctx, 'clock_offset', ahead || offsetS < -clock.behind_s, f.arrivalMs, offsetS,
+      ahead ? clock.ahead_s : -clock.behind_s)));
+  }
   for (const [channelId, ch] of logger.channels) {
     out.push(...evaluateChannel(ctx, f, logger, channelId, ch, f.values.get(channelId)));
   }
@@ -67,7 +76,7 @@ function evaluateChannel(
     const ks = keyState(ctx, `spike|${subjectKey}`, 1);
     ks.hampel ??= { window: [] };
     const v = hampelStep(ks.hampel, reading, h.spike.window_samples, h.spike.k_mads, h.spike.min_deviation);
-    const dev = v.median === null ? null : reading - v.median;
+    const dev = v.deviation;
     out.push(...evaluate(ctx, desc('spike', 'deviation_from_median', ch.unit),
       healthEvaluation(ctx, 'spike', v.spike, t, dev, v.limit), ks));
   }

@@ -14,15 +14,23 @@ describe('hampel', () => {
   it('flags a reading beyond k MADs of the window median and not one inside', () => {
     const s = { window: [10, 11, 9, 10, 12, 10, 11] }; // median 10, MAD 1 -> limit 3 x 1.4826 = 4.4478
     const inside = hampelStep({ window: [...s.window] }, 14, 7, 3, 0);
-    expect(inside).toEqual({ spike: false, median: 10, limit: expect.closeTo(4.4478, 6) });
-    expect(hampelStep(s, 15, 7, 3, 0).spike).toBe(true);
-    expect(s.window).toEqual([11, 9, 10, 12, 10, 11, 15]); // the window slides, oldest out
+    expect(inside).toEqual({ spike: false, median: 10, limit: expect.closeTo(4.4478, 6), deviation: null });
+    expect(hampelStep(s, 15, 7, 3, 0).spike).toBe(false); // an outlier: spike or real change? the next reading tells
+    expect(hampelStep(s, 10, 7, 3, 0)).toMatchObject({ spike: true, median: 10, deviation: 5 });
+    expect(s.window).toEqual([11, 9, 10, 12, 10, 11, 10]); // the spike stays out; the window slides, oldest out
+  });
+  it('takes an outlier that stays (a ramp or a step) as a real change, not a spike', () => {
+    const s = { window: [10, 11, 9, 10, 12, 10, 11] };
+    expect(hampelStep(s, 20, 7, 3, 0).spike).toBe(false);
+    expect(hampelStep(s, 21, 7, 3, 0).spike).toBe(false);
+    expect(s.window).toEqual([11, 9, 10, 12, 10, 11, 20]);
   });
   it('judges nothing until the window is full; min_deviation guards a zero MAD', () => {
     const s = { window: [] as number[] };
     for (let i = 0; i < 5; i++) expect(hampelStep(s, 5, 5, 3, 0.5).median).toBeNull();
     expect(hampelStep(s, 5.4, 5, 3, 0.5).spike).toBe(false);
-    expect(hampelStep(s, 5.6, 5, 3, 0.5).spike).toBe(true);
+    expect(hampelStep(s, 5.6, 5, 3, 0.5).spike).toBe(false);
+    expect(hampelStep(s, 5.1, 5, 3, 0.5).spike).toBe(true);
   });
   it('median of even and odd lists, without mutating', () => {
     const xs = [4, 1, 3, 2];

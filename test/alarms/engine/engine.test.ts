@@ -126,6 +126,15 @@ describe('alarm engine: channel health', () => {
     ]);
     expect(transitions[0].alarm.subject).toEqual({ kind: 'channel', loggerId: 'LG-01', channelId: 'ch01', groupId: 'S1-MID-G2' });
   });
+  it('a logger clock running ahead of arrival raises clock_offset, and clears once back in step', () => {
+    // Transport only delays a message, so a timestamp later than its arrival means the clock runs ahead (common practice).
+    const at = (s: number, aheadMs: number): AlarmInput => ({ type: 'frame', frame: { ...frame(T0 + s * 1000 + aheadMs, { ch01: 10 + s, ch02: 5 + s }), arrivalMs: T0 + s * 1000 } });
+    const { transitions } = run([at(0, 100), at(10, 1_900), at(20, 2_500), at(30, 300)]);
+    expect(transitions.map((t) => `${t.kind}:${t.alarm.ruleId}:${t.alarm.value}:${t.alarm.limit}`)).toEqual([
+      'raised:clock_offset:2.5:2', 'cleared:clock_offset:0.3:2',
+    ]);
+    expect(transitions[0].alarm.subject).toEqual({ kind: 'logger', loggerId: 'LG-01' });
+  });
   it('a channel null for 3 intervals raises channel_missing', () => {
     const inputs: AlarmInput[] = [0, 10, 20, 30, 40].map((s) => ({
       type: 'frame', frame: frame(T0 + s * 1000, s === 0 ? { ch01: 1, ch02: 1 } : { ch01: null, ch02: 1 }),

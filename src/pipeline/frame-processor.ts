@@ -69,8 +69,9 @@ export class FrameProcessor<M> {
     this.counts.frames++;
     const temperatures = this.takeTemperatures(frame);
     const done: ProcessedFrame<M>[] = [];
-    // New temperature may release frames of other loggers that were waiting for it.
-    if (Object.keys(temperatures).length > 0) this.releaseReady(clockMs, done);
+    // Release first whatever this moment frees (waits run out on the clock, new temperature), so a
+    // held frame is computed before any message that arrived after its deadline, live and in replay.
+    this.releaseReady(clockMs, done);
     const queue = this.held.get(frame.loggerId);
     if ((queue && queue.length > 0) || this.mustWait(frame, clockMs)) {
       const q = queue ?? [];

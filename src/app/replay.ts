@@ -1,4 +1,7 @@
-import { lastValueFrom, tap, type Observable } from 'rxjs';
+import { EMPTY, lastValueFrom, tap, type Observable } from 'rxjs';
+import type { AlarmTransition } from '../alarms/index.js';
+import { alarmLookups } from './lookups.js';
+import { attachAlarms } from './alarms-wiring.js';
 import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
 import type { CompiledStructure } from '../config/compile.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
@@ -27,7 +30,9 @@ export interface ReplayOptions {
   /** Keep every result in memory (for the diagnosis report). */
   collectResults?: boolean;
   onMessage?: (count: number, raw: RawMessage) => void;
-  /** Further consumers of the processed stream (the alarms), subscribed before it starts. */
+  /** Run the structure's alarms too (its `alarms` section): transitions to the sink and the summary; deliveries recorded, not sent. */
+  alarms?: boolean;
+  /** Further consumers of the processed stream, subscribed before it starts. */
   attach?: (processed$: Observable<FrameOutput<PipelineMessage>>) => void;
 }
 
@@ -38,6 +43,8 @@ export interface ReplaySummary {
   rejected: number;
   writeErrors: number;
   collected: GroupResult[];
+  /** Alarm transitions, in order (when alarms ran). */
+  transitions: AlarmTransition[];
 }
 
 /**
@@ -53,16 +60,25 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   let writeErrors = 0;
   const processed$ = replaySource(o.messages, {
     tickMs: o.tickMs, speed: o.speed, sleep: o.sleep,
-    onMessage: (n, raw) => { messages = n; o.onMessage?.(n, raw); },
+    onMessage: (n, raw) => { messages = n; clockMs = raw.arrivalMs; o.onMessage?.(n, raw); },
   }).pipe(pipeline<PipelineMessage>({
     structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters: o.deadLetters,
     decodeCounts, processor: processor as FrameProcessor<unknown>,
   }));
   o.attach?.(processed$);
+  const transitions: AlarmTransition[] = [];
+  let clockMs = 0;
+  const wiring = o.alarms && o.structure.alarms
+    ? attachAlarms(processed$, EMPTY, {
+      cfg: o.structure.alarms, lookups: alarmLookups(o.structure), now: () => clockMs, sink: o.sink,
+      pointTags: { run: o.runTag }, webhook: 'record', onBatch: (b) => { transitions.push(...b.transitions); },
+    })
+    : null;
   await lastValueFrom(processed$.pipe(
     tap((p) => { if (o.collectResults && p.kind === 'frame') collected.push(...p.results); }),
     writeAndAck(o.sink, { extraTags: { run: o.runTag } }, 2048, () => { writeErrors++; }),
   ), { defaultValue: null });
+  await wiring?.close();
   await o.sink.close();
-  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected };
+  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions };
 }

@@ -46,9 +46,14 @@ describe('strainward replay', () => {
     const [ta, tb] = [await readOutput(a), await readOutput(b)];
     expect(ta.length).toBeGreaterThan(10_000);
     expect(ta).toBe(tb);
-    const results = decodeLines(ta).filter((p) => p.measurement === 'sw_result');
+    const points = decodeLines(ta);
+    const results = points.filter((p) => p.measurement === 'sw_result');
     expect(results.length).toBe(truthCount);
     expect(results.every((p) => p.tags.run === 'r1')).toBe(true);
+    // The scenario's heavy vehicle (at mid-run) raises the configured von Mises alarm in the replay too.
+    const alarms = points.filter((p) => p.measurement === 'sw_alarm' && p.tags.transition === 'raised' && p.tags.alarm_class === 'structural');
+    expect(alarms.map((p) => p.tags.rule)).toContain('steel-von-mises');
+    expect(alarms.every((p) => p.tags.run === 'r1')).toBe(true);
     expect(await readdir(a)).toEqual(await readdir(b));
   });
 
@@ -64,6 +69,8 @@ describe('strainward replay', () => {
       '--report', report, '--compare-structure', corrected])).toBe(0);
     const html = await readFile(report, 'utf8');
     expect(html).toContain('flange-south-mid1');
+    expect(html).toContain('does not replace qualified engineering judgement');
+    expect(html).toContain('steel-von-mises'); // the alarm table lists the replay's alarms
     expect(html).toContain(corrected);
     // 50 microstrain less indicated on steel, E = 210000 MPa, nu = 0.3, gauge Kt = 0.009 calibrated at nu0 = 0.285:
     // under uniaxial stress the gauge reads eps (1 - nu Kt) / (1 - nu0 Kt) (transverse sensitivity, Dally and Riley,

@@ -13,6 +13,7 @@ import { replay, type ReplaySummary } from '../../app/replay.js';
 import { ensureParent, openPointSink } from '../../app/sinks.js';
 import { MemorySink } from '../../adapters/memory-sink.js';
 import { renderReport } from '../../report/render-report.js';
+import { reportAlarm, reportLimits } from '../../app/report-inputs.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import { parseOptions } from '../options.js';
@@ -67,7 +68,7 @@ export function replayCommand(): Command {
         const summary = await replay({
           structure: s, messages: readCapture(o.capture, window), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
           deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
-          topicPattern: loaded?.runtime.mqtt.topic_pattern, collectResults: collect,
+          topicPattern: loaded?.runtime.mqtt.topic_pattern, collectResults: collect, alarms: true,
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
           onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
         });
@@ -78,14 +79,15 @@ export function replayCommand(): Command {
         ? (await openPointSink(loaded!.runtime, loaded!.baseDir, Date.now)).sink
         : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
       const first = await run(structure, o.runTag, sink, o.report !== undefined);
-      process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused\n`);
+      process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitions.length} alarm transitions\n`);
       if (o.report) {
         const second = o.compareStructure
           ? await run(await loadStructureFile(o.compareStructure), `${o.runTag}-compare`, new MemorySink(), true)
           : null;
         const html = renderReport({
           title: `${structure.config.structure.name} - replay ${o.runTag}`, structureId: structure.structureId, generatedAtMs: Date.now(),
-          run: { label: o.structure ?? 'configuration', results: first.collected }, alarms: [],
+          run: { label: o.structure ?? 'configuration', results: first.collected }, alarms: first.transitions.map(reportAlarm),
+          limits: reportLimits(structure.alarms),
           comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
         });
         await writeFile(await ensureParent(o.report), html);

@@ -37,6 +37,11 @@ export const HealthConfigSchema = z.strictObject({
       window_samples: z.number().int().min(3).default(15),
       k_mads: Positive.default(3),
       min_deviation: NonNegative.default(0),
+      /**
+       * min_deviation per channel unit (e.g. {"mV/V": 0.02, microstrain: 40, Hz: 1.5}): one structure
+       * mixes units, and a spike must stand clear of what traffic does to each channel.
+       */
+      min_deviation_by_unit: z.record(z.string().min(1), NonNegative).default({}),
       off_delay_s: NonNegative.default(60),
     })
     .prefault({}),

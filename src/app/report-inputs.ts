@@ -1,5 +1,4 @@
 import type { AlarmsConfig, AlarmTransition } from '../alarms/index.js';
-import { alarmText } from '../alarms/index.js';
 import type { QuantityLimits, ReportAlarmTransition } from '../report/types.js';
 
 /** An alarm transition in the report's shape (the report takes a small local record). Pure. */
@@ -10,14 +9,14 @@ export function reportAlarm(t: AlarmTransition): ReportAlarmTransition {
     time_ms: t.atMs,
     alarm_id: a.id,
     class: a.alarmClass,
-    state: `${t.kind}: ${a.state}`,
+    state: a.state,
     level: a.level,
     group_id: s.kind === 'group' ? s.groupId : s.kind === 'channel' ? s.groupId ?? undefined : undefined,
     channel: s.kind === 'channel' ? `${s.loggerId}/${s.channelId}` : s.kind === 'logger' ? s.loggerId : undefined,
     quantity: a.quantity,
     value: a.value ?? undefined,
     limit: a.limit ?? undefined,
-    message: alarmText(t),
+    message: `${t.kind}${a.value !== null ? `: ${a.quantity} ${round(a.value)} ${a.units}` : ''}${a.limit !== null ? ` (limit ${round(a.limit)})` : ''}`,
   };
 }
 
@@ -34,3 +33,5 @@ export function reportLimits(cfg: AlarmsConfig | null): QuantityLimits {
   }
   return limits;
 }
+
+const round = (v: number): string => (Math.abs(v) >= 100 ? v.toFixed(0) : Math.abs(v) >= 1 ? v.toFixed(2) : v.toPrecision(3));

@@ -75,7 +75,8 @@ function evaluateChannel(
   if (h.spike.enabled) {
     const ks = keyState(ctx, `spike|${subjectKey}`, 1);
     ks.hampel ??= { window: [] };
-    const v = hampelStep(ks.hampel, reading, h.spike.window_samples, h.spike.k_mads, h.spike.min_deviation);
+    const minDeviation = h.spike.min_deviation_by_unit[ch.unit] ?? h.spike.min_deviation;
+    const v = hampelStep(ks.hampel, reading, h.spike.window_samples, h.spike.k_mads, minDeviation);
     const dev = v.deviation;
     out.push(...evaluate(ctx, desc('spike', 'deviation_from_median', ch.unit),
       healthEvaluation(ctx, 'spike', v.spike, t, dev, v.limit), ks));

@@ -67,3 +67,16 @@ describe('spike (Hampel) and repeats', () => {
     expect(e.visibleAlarms()).toHaveLength(1);
   });
 });
+
+describe('spike threshold per channel unit', () => {
+  it('ignores a jump below min_deviation_by_unit for the channel\'s unit and flags one above it', () => {
+    const spikes = (jump: number) => {
+      const cfg = config({ health: { level: 'advisory', spike: { window_samples: 9, k_mads: 3, min_deviation_by_unit: { micro: 100 } }, flatline: { enabled: false } } });
+      const inputs: AlarmInput[] = [];
+      for (let i = 0; i < 20; i++) inputs.push({ type: 'frame', frame: frame(T0 + i * 10_000, { ch01: 100 + (i % 3) + (i === 12 ? jump : 0), ch02: 5 + (i % 3) }) });
+      return kinds(inputs, cfg, lookups).out.filter((t) => t.alarm.ruleId === 'spike').length;
+    };
+    expect(spikes(60)).toBe(0); // far beyond 3 MADs, but below the 100 microstrain floor
+    expect(spikes(160)).toBe(1);
+  });
+});

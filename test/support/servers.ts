@@ -197,14 +197,24 @@ export async function startVictoriaMetrics(opts: { dataDir?: string; port?: numb
       if (!res.ok) throw new Error(`force_flush: HTTP ${res.status}`);
     },
     async exportSeries(match: string) {
-      const query = new URLSearchParams({ 'match[]': match, start: '0' });
-      const res = await fetch(`${url}/api/v1/export?${query}`);
-      if (!res.ok) throw new Error(`export: HTTP ${res.status} ${await res.text()}`);
-      const text = await res.text();
-      return text
-        .split('\n')
-        .filter((line) => line.trim() !== '')
-        .map((line) => JSON.parse(line) as ExportedSeries);
+      // Just-flushed rows become searchable within moments, not at once: read until two reads
+      // 100 ms apart agree (at most 3 s), so a test never judges a half-visible series.
+      const read = async (): Promise<ExportedSeries[]> => {
+        const query = new URLSearchParams({ 'match[]': match, start: '0' });
+        const res = await fetch(`${url}/api/v1/export?${query}`);
+        if (!res.ok) throw new Error(`export: HTTP ${res.status} ${await res.text()}`);
+        return (await res.text()).split('\n').filter((line) => line.trim() !== '').map((line) => JSON.parse(line) as ExportedSeries);
+      };
+      const size = (series: ExportedSeries[]) => series.reduce((n, x) => n + x.values.length, 0);
+      let last = await read();
+      for (let i = 0; i < 30; i++) {
+        await sleep(100);
+        await fetch(`${url}/internal/force_flush`);
+        const next = await read();
+        if (size(next) === size(last) && next.length === last.length) return next;
+        last = next;
+      }
+      return last;
     },
   };
 }

@@ -11,9 +11,7 @@ have() { # have <binary> <absolute path>: on PATH, or at the Debian package's pa
 missing=()
 have mosquitto /usr/sbin/mosquitto || missing+=(mosquitto)
 have victoria-metrics /usr/bin/victoria-metrics || missing+=(victoria-metrics)
-if [ "${STRAINWARD_NEED_BROWSER:-0}" = "1" ]; then
-  have chromium /usr/bin/chromium || missing+=(chromium)
-fi
+have chromium /usr/bin/chromium || missing+=(chromium) # browser tests: the report in a real page, and its PDF
 
 if [ "${#missing[@]}" -gt 0 ]; then
   if [ "$(id -u)" = "0" ]; then

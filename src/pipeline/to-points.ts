@@ -19,13 +19,27 @@ export interface PointOptions {
   raw?: boolean;
 }
 
+// Field names are built once, not per point: every frame writes the same few dozen names.
+const FLAG_FIELDS = QUALITY_FLAGS.map((f) => `flag_${f}`);
+const elementFieldNames = new Map<string, string>();
+/** `el_<gauge>_micro`, remembered per gauge id (ids come from the configuration, so the map stays small). */
+function elementField(gaugeId: string): string {
+  let name = elementFieldNames.get(gaugeId);
+  if (name === undefined) {
+    name = `el_${gaugeId}_micro`;
+    if (elementFieldNames.size < 65_536) elementFieldNames.set(gaugeId, name);
+  }
+  return name;
+}
+
 export function resultPoint(r: GroupResult, extraTags: Readonly<Record<string, string>> = {}): Point {
   const fields: Record<string, number> = { ...(r.values as Record<string, number>) };
   const bits = qualityBits(r.flags);
   fields.quality_bits = bits;
   fields.good = bits === 0 ? 1 : 0;
-  QUALITY_FLAGS.forEach((f, i) => { fields[`flag_${f}`] = (bits >> i) & 1; });
-  for (const [gauge, v] of Object.entries(r.elementStrainMicro)) fields[`el_${gauge}_micro`] = v;
+  for (let i = 0; i < FLAG_FIELDS.length; i++) fields[FLAG_FIELDS[i]] = (bits >> i) & 1;
+  const strains = r.elementStrainMicro;
+  for (const gauge in strains) fields[elementField(gauge)] = strains[gauge];
   if (r.seq !== null) fields.seq = r.seq;
   return {
     measurement: 'sw_result',

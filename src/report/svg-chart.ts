@@ -77,7 +77,9 @@ export function lineChart(spec: ChartSpec): string {
   }
   parts.push(`<text class="axis-label" x="${M.left + pw}" y="${H - 3}" text-anchor="end">time (UTC)</text>`);
   parts.push(`<text class="axis-label" x="4" y="${M.top - 8}">${esc(spec.unit)}</text>`);
-  parts.push(`<text class="chart-title" x="${M.left}" y="${M.top - 8}">${esc(spec.title)}${offScale.length ? esc(` (off scale: ${offScale.join(', ')})`) : ''}</text>`);
+  parts.push(`<text class="chart-title" x="${M.left}" y="${M.top - 8}">${esc(spec.title)}</text>`);
+  // Limits beyond the plotted range are named under the plot, clear of the legend above it.
+  if (offScale.length) parts.push(`<text class="chart-note" x="${M.left}" y="${H - 4}">${esc(`limits off scale: ${offScale.join(', ')}`)}</text>`);
   for (const s of spec.series) {
     for (const seg of s.segments) {
       const pts = seg.t.map((t, i) => `${r1(X(t))},${r1(Y(seg.v[i]))}`).join(' ');

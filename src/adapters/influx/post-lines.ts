@@ -46,7 +46,10 @@ export function createLinePoster(target: InfluxTarget): (lines: readonly string[
       writeFailed: (error: Error) => Promise.reject(error),
     });
     try {
-      api.writeRecords(lines as string[]);
+      // One record holding every line gives the same request body; the client measures each
+      // record's UTF-8 length character by character, which on thousands of short unflattened
+      // strings showed up as ~5 % of bench:pipeline's profile. Joined, it is one flat scan.
+      api.writeRecord(lines.join('\n'));
       await api.flush();
     } catch (err) {
       throw toDatabaseWriteError(err, target.token);

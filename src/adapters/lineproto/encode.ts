@@ -13,14 +13,19 @@ import type { Point } from '../../model/point.js';
 const MEASUREMENT_SPECIAL = /[\\, ]/g;
 const KEY_SPECIAL = /[\\,= ]/g;
 const LINE_BREAK = /[\r\n]/g;
+// Almost every name has nothing to escape: test first, so the common case allocates nothing.
+const MEASUREMENT_NEEDS_ESCAPE = /[\\, \r\n]/;
+const KEY_NEEDS_ESCAPE = /[\\,= \r\n]/;
 
 /** Escapes a measurement name (comma, space, backslash). */
 export function escapeMeasurement(name: string): string {
+  if (!MEASUREMENT_NEEDS_ESCAPE.test(name)) return name;
   return name.replace(LINE_BREAK, ' ').replace(MEASUREMENT_SPECIAL, (c) => '\\' + c);
 }
 
 /** Escapes a tag key, tag value or field key (comma, equals sign, space, backslash). */
 export function escapeKey(text: string): string {
+  if (!KEY_NEEDS_ESCAPE.test(text)) return text;
   return text.replace(LINE_BREAK, ' ').replace(KEY_SPECIAL, (c) => '\\' + c);
 }
 

@@ -14,6 +14,7 @@ import { ensureParent, openPointSink } from '../../app/sinks.js';
 import { MemorySink } from '../../adapters/memory-sink.js';
 import { renderReport } from '../../report/render-report.js';
 import { reportAlarm, reportLimits } from '../../app/report-inputs.js';
+import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import { parseOptions } from '../options.js';
@@ -32,11 +33,13 @@ export const ReplayOptionsSchema = z.strictObject({
   database: z.boolean().default(false),
   runTag: z.string().regex(/^[A-Za-z0-9_.-]+$/, 'letters, digits, "_", "-" or "." only').default('replay'),
   report: z.string().min(1).optional(),
+  reportPdf: z.string().min(1).optional(),
   compareStructure: z.string().min(1).optional(),
   tickMs: z.coerce.number().int().positive().default(1000),
   progress: z.boolean().optional(),
 }).refine((o) => o.config !== undefined || o.structure !== undefined, { message: 'give --config (runtime file) or --structure', path: ['structure'] })
-  .refine((o) => !o.database || o.config !== undefined, { message: '--database needs --config (it names the database)', path: ['database'] });
+  .refine((o) => !o.database || o.config !== undefined, { message: '--database needs --config (it names the database)', path: ['database'] })
+  .refine((o) => o.reportPdf === undefined || o.report !== undefined, { message: '--report-pdf goes with --report', path: ['reportPdf'] });
 
 /** `strainward replay`: a capture, or a window of it, through the live pipeline with any configuration. */
 export function replayCommand(): Command {
@@ -52,6 +55,7 @@ export function replayCommand(): Command {
     .option('--database', 'write to the runtime configuration\'s database instead, tagged run=<run-tag>')
     .option('--run-tag <name>', 'tag on every point so live data is never overwritten', 'replay')
     .option('--report <file>', 'write a diagnosis report (HTML) of the replay')
+    .option('--report-pdf <file>', 'also print the report to PDF (needs Debian\'s chromium)')
     .option('--compare-structure <file>', 'replay again with this structure configuration and compare in the report')
     .option('--tick-ms <ms>', 'pipeline clock tick on the arrival-time grid', '1000')
     .option('--progress', 'show a progress bar (default when stderr is a terminal)')
@@ -92,6 +96,10 @@ export function replayCommand(): Command {
         });
         await writeFile(await ensureParent(o.report), html);
         process.stderr.write(`report written to ${o.report}\n`);
+        if (o.reportPdf) {
+          await htmlToPdf(html, await ensureParent(o.reportPdf));
+          process.stderr.write(`PDF written to ${o.reportPdf}\n`);
+        }
       }
     });
 }

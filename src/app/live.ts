@@ -55,7 +55,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     url: rc.mqtt.url, clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     username: rc.mqtt.username, password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
-    reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms,
+    reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
     subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
   }, { now: deps.now, log: deps.log });
 

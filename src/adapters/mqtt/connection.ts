@@ -27,6 +27,9 @@ export interface MqttConnectionStats {
   heldAcks: number;
   /** Current reconnect delay, ms. */
   reconnectDelay_ms: number;
+  /** Times intake stopped at maxHeldAcks, and started again. */
+  pauses: number;
+  resumes: number;
 }
 
 export interface MqttConnection {
@@ -106,7 +109,7 @@ function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions
 function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Promise<MqttConnection> {
   const log = deps.log ?? (() => {});
   const client = mqtt.connect(o.url, clientOptions(o, version));
-  const stats = { connects: 0, reconnectAttempts: 0 };
+  const stats = { connects: 0, reconnectAttempts: 0, pauses: 0, resumes: 0 };
   let delay_ms = o.reconnectInitial_ms;
 
   // PUBACKs are held by swapping mqtt.js's packet writer. Its own hook, customHandleAcks, cannot
@@ -114,12 +117,30 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
   // handles no further packet (no later message, no PINGRESP), so one slow ack stalls everything.
   const internals = client as unknown as { _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void };
   const sendPacket = internals._sendPacket.bind(client);
+  // Intake back-pressure: with maxHeldAcks messages unacknowledged, mqtt.js is not told that this
+  // PUBACK went out until the count is back to half, and it reads no further packet meanwhile (TCP
+  // then holds the broker back, which queues for the session). Brokers do not all enforce Receive
+  // Maximum; without this an overload would pile up in this process's memory.
+  let deferred: (() => void) | null = null;
   internals._sendPacket = (packet, cb, ...rest) => {
     if (packet.cmd === 'puback' && !packet[RELEASED]) {
+      if (acks.waiting >= o.maxHeldAcks && cb) {
+        deferred = cb;
+        stats.pauses++;
+        return;
+      }
       cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
       return;
     }
     sendPacket(packet, cb, ...rest);
+  };
+  const relieve = () => {
+    if (deferred !== null && acks.waiting <= o.maxHeldAcks / 2) {
+      const cb = deferred;
+      deferred = null;
+      stats.resumes++;
+      cb();
+    }
   };
   const acks = new OrderedAckQueue((messageId) => {
     if (client.connected) sendPacket({ cmd: 'puback', messageId, reasonCode: 0, [RELEASED]: true });
@@ -140,11 +161,11 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
   client.on('message', (topic, payload, packet) => {
     const raw: RawMessage = { topic, payload: new Uint8Array(payload), arrivalMs: deps.now() };
     const ticket = packet.qos === 1 && packet.messageId !== undefined ? acks.enqueue(packet.messageId) : { ack() {} };
-    const message: InboundMessage = { raw, ack: () => ticket.ack() };
+    const message: InboundMessage = { raw, ack: () => { ticket.ack(); relieve(); } };
     if (early) early.push(message);
     else subject.next(message);
   });
-  client.on('close', () => acks.reset());
+  client.on('close', () => { acks.reset(); deferred = null; });
   client.on('reconnect', () => {
     stats.reconnectAttempts++;
     // mqtt.js reads reconnectPeriod each time it schedules, so growing it here is the backoff.

@@ -25,7 +25,7 @@ export const RuntimeConfigSchema = z.strictObject({
     reconnect_initial_ms: duration_ms.default(500),
     reconnect_max_ms: duration_ms.default(30_000),
     /** Stop reading from the broker while this many messages wait to be acknowledged (bounded memory under overload). */
-    max_held_acks: z.number().int().min(2).default(20_000),
+    max_held_acks: z.number().int().min(2).default(4096),
   }),
   /** Absent: results go to rotating line-protocol files (the embedded default). */
   database: z.strictObject({

@@ -34,7 +34,7 @@ export const mqttConnectionOptionsSchema = z.strictObject({
   reconnectFactor: z.number().min(1).max(10).default(2),
   connectTimeout_ms: z.number().int().min(100).default(10_000),
   /** Stop reading from the broker while this many messages wait for their acknowledgement (resume at half). */
-  maxHeldAcks: z.number().int().min(2).default(20_000),
+  maxHeldAcks: z.number().int().min(2).default(4096),
   /** Topic filters subscribed at QoS 1 after the first connection (mqtt.js resubscribes after a lost session). */
   subscriptions: z.array(z.string().min(1)).default([]),
 }).refine((o) => o.reconnectMax_ms >= o.reconnectInitial_ms, {

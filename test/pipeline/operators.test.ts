@@ -1,0 +1,72 @@
+import { TestScheduler } from 'rxjs/testing';
+import { describe, expect, it } from 'vitest';
+import { MemorySink } from '../../src/adapters/memory-sink.js';
+import type { Point, PointSink } from '../../src/model/point.js';
+import type { LoggerFrame } from '../../src/model/raw-message.js';
+import { processFrames, type FrameInput, type FrameOutput } from '../../src/pipeline/process-frames.js';
+import { writeAndAck } from '../../src/pipeline/write-and-ack.js';
+import { firstValueFrom, from, lastValueFrom, map, toArray } from 'rxjs';
+import { baseDoc, compileOrThrow, microGauge } from '../support/structures.js';
+
+const structure = compileOrThrow(baseDoc(
+  [{ id: 'one', kind: 'single', material: 'steel', zone: 'z', location: 'bench', elements: [{ gauge: 'g' }], temperature_sensors: ['tc'],
+    temperature: { mode: 'interpolate', max_age_s: 60, max_wait_s: 5 } }],
+  [microGauge('g', 'c1')],
+  { loggers: [{ id: 'lg', expected_interval_s: 1 }, { id: 'th', expected_interval_s: 10 }],
+    temperature_sensors: [{ id: 'tc', kind: 'thermocouple', channel: { logger: 'th', channel: 't' } }] },
+));
+const frame = (loggerId: string, t: number, values: Record<string, number>): LoggerFrame =>
+  ({ structureId: 'test-structure', loggerId, timeMs: t, seq: null, values: new Map(Object.entries(values)), arrivalMs: t });
+const label = (o: FrameOutput<string>) => (o.kind === 'tick' ? `tick${o.nowMs}` : o.kind === 'received' ? `in:${o.frame.loggerId}` : `out:${o.message}`);
+
+describe('processFrames (virtual time)', () => {
+  it('passes frames in at once, computes them when temperature allows, passes ticks, and flushes on completion', () => {
+    new TestScheduler((a, b) => expect(a).toEqual(b)).run(({ cold, expectObservable }) => {
+      const inputs: Record<string, FrameInput<string>> = {
+        a: { kind: 'frame', frame: frame('th', 0, { t: 10 }), message: 'th0' },
+        b: { kind: 'frame', frame: frame('lg', 1000, { c1: 1 }), message: 'lg1' },
+        c: { kind: 'tick', nowMs: 3000 },
+        d: { kind: 'frame', frame: frame('th', 4000, { t: 20 }), message: 'th1' },
+        e: { kind: 'frame', frame: frame('lg', 5000, { c1: 2 }), message: 'lg2' },
+      };
+      const out$ = cold('a 9ms b 9ms c 9ms d 9ms e 9ms |', inputs).pipe(processFrames<string>(structure));
+      const labels = { p: 'in:th', q: 'out:th0', r: 'in:lg', s: 'tick3000', t: 'out:lg1', u: 'out:th1', w: 'out:lg2' };
+      // lg1 waits for the 4 s reading (interpolation); lg2 has none after it and is computed at completion.
+      expectObservable(out$.pipe(map(label))).toBe('(pq) 6ms r 9ms s 9ms (ptu) 5ms r 9ms (w|)', labels);
+    });
+  });
+});
+
+describe('writeAndAck', () => {
+  const processed = (message: { ack(): void }, t: number): FrameOutput<{ ack(): void }> => ({
+    kind: 'frame', frame: frame('lg', t, { c1: t }), message, results: [], temperatures: {},
+  });
+
+  it('acknowledges a frame only after its points are written, in order', async () => {
+    const events: string[] = [];
+    const sink: PointSink = {
+      write: async (points: readonly Point[]) => { events.push(`write ${points[0].timeMs}`); },
+      close: async () => {},
+    };
+    const msg = (t: number) => ({ ack: () => events.push(`ack ${t}`) });
+    await lastValueFrom(from([processed(msg(1), 1), { kind: 'tick', nowMs: 2 } as const, processed(msg(3), 3)]).pipe(writeAndAck(sink)));
+    expect(events).toEqual(['write 1', 'write 3', 'ack 1', 'ack 3']);
+  });
+
+  it('leaves a message unacknowledged when its write fails, reports it, and goes on', async () => {
+    const failing: PointSink = { write: async () => { throw new Error('spool full'); }, close: async () => {} };
+    let acked = 0;
+    const errors: string[] = [];
+    const out = await firstValueFrom(from([processed({ ack: () => { acked++; } }, 1), processed({ ack: () => { acked++; } }, 2)])
+      .pipe(writeAndAck(failing, {}, 16, (err) => errors.push((err as Error).message)), toArray()));
+    expect(out).toHaveLength(2);
+    expect(acked).toBe(0);
+    expect(errors).toEqual(['spool full', 'spool full']);
+  });
+
+  it('writes raw readings with the frame and tags every point with the run tag', async () => {
+    const sink = new MemorySink();
+    await lastValueFrom(from([processed({ ack() {} }, 7)]).pipe(writeAndAck(sink, { extraTags: { run: 'r9' } })));
+    expect(sink.points.map((p) => `${p.measurement} ${p.tags.run} ${p.fields.c1}`)).toEqual(['sw_raw r9 7']);
+  });
+});

@@ -32,7 +32,21 @@ function elementField(gaugeId: string): string {
   return name;
 }
 
-export function resultPoint(r: GroupResult, extraTags: Readonly<Record<string, string>> = {}): Point {
+const NO_TAGS: Readonly<Record<string, string>> = Object.freeze({});
+// One frozen tags object per series, so the encoder can keep its escaped series key with it.
+const seriesTags = new WeakMap<object, Map<string, Readonly<Record<string, string>>>>();
+function tagsFor(extra: Readonly<Record<string, string>>, key: string, make: () => Record<string, string>): Readonly<Record<string, string>> {
+  let byKey = seriesTags.get(extra);
+  if (byKey === undefined) seriesTags.set(extra, (byKey = new Map()));
+  let tags = byKey.get(key);
+  if (tags === undefined) {
+    tags = Object.freeze({ ...make(), ...extra });
+    if (byKey.size < 100_000) byKey.set(key, tags);
+  }
+  return tags;
+}
+
+export function resultPoint(r: GroupResult, extraTags: Readonly<Record<string, string>> = NO_TAGS): Point {
   const fields: Record<string, number> = { ...(r.values as Record<string, number>) };
   const bits = qualityBits(r.flags);
   fields.quality_bits = bits;
@@ -43,14 +57,15 @@ export function resultPoint(r: GroupResult, extraTags: Readonly<Record<string, s
   if (r.seq !== null) fields.seq = r.seq;
   return {
     measurement: 'sw_result',
-    tags: { structure: r.structureId, group: r.groupId, zone: r.zone, logger: r.loggerId, ...extraTags },
+    tags: tagsFor(extraTags, `r\u0000${r.structureId}\u0000${r.groupId}\u0000${r.zone}\u0000${r.loggerId}`,
+      () => ({ structure: r.structureId, group: r.groupId, zone: r.zone, logger: r.loggerId })),
     fields,
     timeMs: r.timeMs,
   };
 }
 
 export function framePoints<M>(p: ProcessedFrame<M>, options: PointOptions = {}): Point[] {
-  const tags = options.extraTags ?? {};
+  const tags = options.extraTags ?? NO_TAGS;
   const points = p.results.map((r) => resultPoint(r, tags));
   if (options.raw !== false) {
     const f = p.frame;
@@ -63,7 +78,8 @@ export function framePoints<M>(p: ProcessedFrame<M>, options: PointOptions = {})
     fields.missing_channels = missing;
     fields.arrival_lag_ms = f.arrivalMs - f.timeMs;
     if (f.seq !== null) fields.seq = f.seq;
-    points.push({ measurement: 'sw_raw', tags: { structure: f.structureId, logger: f.loggerId, ...tags }, fields, timeMs: f.timeMs });
+    const rawTags = tagsFor(tags, `w\u0000${f.structureId}\u0000${f.loggerId}`, () => ({ structure: f.structureId, logger: f.loggerId }));
+    points.push({ measurement: 'sw_raw', tags: rawTags, fields, timeMs: f.timeMs });
   }
   return points;
 }

@@ -47,19 +47,42 @@ export function encodeLine(point: Point): string | null {
   // A line starting with `#` is a comment in line protocol, and `#` cannot be escaped there.
   if (point.measurement === '' || point.measurement.startsWith('#') || !Number.isFinite(point.timeMs)) return null;
   let fieldSet = '';
-  for (const key of Object.keys(point.fields)) {
-    const value = point.fields[key];
+  const fields = point.fields;
+  for (const key in fields) {
+    const value = fields[key];
     if (key === '' || typeof value !== 'number' || !Number.isFinite(value)) continue;
-    fieldSet += (fieldSet === '' ? '' : ',') + escapeKey(key) + '=' + formatFloat(value);
+    fieldSet += (fieldSet === '' ? '' : ',') + fieldKey(key) + formatFloat(value);
   }
   if (fieldSet === '') return null;
-  let key = escapeMeasurement(point.measurement);
-  for (const tagKey of Object.keys(point.tags).sort()) {
-    const tagValue = point.tags[tagKey];
+  return seriesKey(point.measurement, point.tags) + ' ' + fieldSet + ' ' + Math.round(point.timeMs);
+}
+
+// Producers reuse one tags object per series, so its encoded series key is kept with it (a weak
+// map: it goes when the tags object goes). Field keys repeat on every line: escaped once each.
+const seriesKeys = new WeakMap<object, { measurement: string; key: string }>();
+const fieldKeys = new Map<string, string>();
+
+function seriesKey(measurement: string, tags: Readonly<Record<string, string>>): string {
+  const cached = seriesKeys.get(tags);
+  if (cached !== undefined && cached.measurement === measurement) return cached.key;
+  let key = escapeMeasurement(measurement);
+  for (const tagKey of Object.keys(tags).sort()) {
+    const tagValue = tags[tagKey];
     if (tagKey === '' || tagValue === undefined || tagValue === '') continue;
     key += ',' + escapeKey(tagKey) + '=' + escapeKey(tagValue);
   }
-  return key + ' ' + fieldSet + ' ' + Math.round(point.timeMs);
+  // Only frozen tags are cached: a mutable object could change under the cache.
+  if (Object.isFrozen(tags)) seriesKeys.set(tags, { measurement, key });
+  return key;
+}
+
+function fieldKey(key: string): string {
+  let k = fieldKeys.get(key);
+  if (k === undefined) {
+    k = escapeKey(key) + '=';
+    if (fieldKeys.size < 100_000) fieldKeys.set(key, k);
+  }
+  return k;
 }
 
 /** Encodes many points, skipping those `encodeLine` refuses. Returns a new array. */

@@ -6,12 +6,13 @@
  * Last line: {"bench":"core","rate":...,"naive_rate":...,"ratio":...}
  */
 import { PerformanceObserver } from 'node:perf_hooks';
-import { Matrix, solve } from 'ml-matrix';
+import { Matrix } from 'ml-matrix';
 import { loadStructureFile } from '../src/config/load.js';
 import { evaluateGroup, indicatedStrainMicro, totalStrainMicro } from '../src/mechanics/evaluate-group.js';
 import { readingsFromStress } from '../src/mechanics/forward-model.js';
 import { createGroupOutput, type GroupModel } from '../src/mechanics/group-model.js';
 import { principal2, vonMises2 } from '../src/mechanics/principal.js';
+import { solveLeastSquaresNaive } from '../src/mechanics/reduction.js';
 
 const structure = await loadStructureFile('config/brannock-mere.yaml');
 const g = structure.groups.find((x) => x.config.id === 'web-north-pier')!.model; // 0/45/90, quarter bridges in mV/V
@@ -48,9 +49,8 @@ function naive(model: GroupModel, count: number): number {
       const total = totalStrainMicro(el, indicatedStrainMicro(el, readings[k * 3 + j], t), t, model.zeroTempC);
       e.push(total - el.hostExpansionMicroPerDegC * (t - model.zeroTempC));
     }
-    const a = new Matrix(3, 3);
-    for (let r = 0; r < 3; r++) for (let c = 0; c < 3; c++) a.set(r, c, model.reduction.obs[r * 3 + c]);
-    const x = solve(a, Matrix.columnVector(e));
+    // Build the observation matrix and solve the least-squares system (SVD) for this sample.
+    const x = Matrix.columnVector(Array.from(solveLeastSquaresNaive(model.reduction.obs, e, 3, 3)));
     const q = new Matrix([[...model.stiffness.slice(0, 3)], [...model.stiffness.slice(3, 6)], [...model.stiffness.slice(6, 9)]]);
     const s = q.mmul(x).mul(1e-6).to1DArray();
     const p = principal2(s[0], s[1], s[2], new Float64Array(3));

@@ -113,3 +113,16 @@ describe('redundant rosettes', () => {
     expect(Number.isNaN(out.vonMisesMPa)).toBe(true);
   });
 });
+
+describe('precomputed pseudo-inverse', () => {
+  it('gives the least-squares solution of ml-matrix SVD solved per sample (reference library)', async () => {
+    const { buildReduction, applyPseudoInverse, solveLeastSquaresNaive } = await import('../../src/mechanics/reduction.js');
+    const s = compileOrThrow(planeRosetteDoc([0, 30, 75, 120, 160]));
+    const red = s.groups[0].model.reduction;
+    const e = Float64Array.of(410, -120, 88, 305, -47);
+    const fast = applyPseudoInverse(red.full!, e, 5, 3, new Float64Array(3));
+    const naive = solveLeastSquaresNaive(red.obs, e, 5, 3);
+    for (let j = 0; j < 3; j++) expect(fast[j]).toBeCloseTo(naive[j], 9);
+    expect(buildReduction(red.obs, 5, 3).full).toEqual(red.full);
+  });
+});

@@ -1,5 +1,5 @@
 import { resolve } from 'node:path';
-import { asyncScheduler, connectable, filter, interval, map, merge, Subject, takeUntil, type SchedulerLike } from 'rxjs';
+import { asyncScheduler, connectable, filter, interval, map, merge, ReplaySubject, Subject, takeUntil, type SchedulerLike } from 'rxjs';
 import { CaptureWriter } from '../adapters/capture/capture-writer.js';
 import { DeadLetterFanOut } from '../adapters/deadletter/fan-out.js';
 import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
@@ -13,7 +13,7 @@ import { compileTopicPattern, subscriptionFilter } from '../ingest/topic.js';
 import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
-import { writeAndAck } from '../pipeline/write-and-ack.js';
+import { RETRY_FOREVER, writeAndAck } from '../pipeline/write-and-ack.js';
 import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
 import { alarmLookups } from './lookups.js';
 import { ensureParent, openPointSink } from './sinks.js';
@@ -67,6 +67,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   let writeErrors = 0;
 
   const stop$ = new Subject<void>();
+  const stopped$ = new ReplaySubject<void>(1); // write retries give up at stop: unacknowledged, redelivered next start
   // Split by topic before the pipeline: acknowledgement commands never reach the decoder. Both
   // branches hang off one subject, connected last, so neither misses a message kept for the first subscriber.
   const inbound$ = connectable(connection.messages$, { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
@@ -95,7 +96,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     processed$.pipe(writeAndAck(sink, {}, 2048, (err) => {
       writeErrors++;
       deps.log('write_failed', { message: err instanceof Error ? err.message : String(err) });
-    })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
+    }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
   processed$.connect();
   inbound$.connect();
@@ -116,6 +117,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     async stop() {
       if (captureFlush) clearInterval(captureFlush);
       stop$.next();
+      stopped$.next();
       await drained;
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await sink.close();

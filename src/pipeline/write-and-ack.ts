@@ -1,4 +1,4 @@
-import { mergeMap, of, type OperatorFunction } from 'rxjs';
+import { asyncScheduler, catchError, defer, map, mergeMap, of, retry, takeUntil, timer, type Observable, type OperatorFunction, type SchedulerLike } from 'rxjs';
 import type { PointSink } from '../model/point.js';
 import type { ProcessedFrame } from './frame-processor.js';
 import type { FrameOutput } from './process-frames.js';
@@ -9,21 +9,48 @@ export interface Acknowledgeable {
   ack(): void;
 }
 
+export interface WriteRetry {
+  /** Attempts per frame, the first included; Infinity = until the write succeeds. */
+  maxAttempts: number;
+  /** Delay before the second attempt, ms; doubles per attempt up to maxDelayMs. */
+  initialDelayMs: number;
+  maxDelayMs: number;
+  scheduler?: SchedulerLike;
+  /** Once this emits (a replaying source: late subscribers see it too), waiting retries give up. */
+  until?: Observable<unknown>;
+}
+
+/** Live default: keep trying, so a spool that was full and has drained again lets the stream go on by itself. */
+export const RETRY_FOREVER: WriteRetry = { maxAttempts: Number.POSITIVE_INFINITY, initialDelayMs: 200, maxDelayMs: 10_000 };
+export const NO_RETRY: WriteRetry = { maxAttempts: 1, initialDelayMs: 0, maxDelayMs: 0 };
+
 /**
  * Writes each processed frame's points and acknowledges its message only after the sink says they
  * are durable (database or spool), so a crash in between makes the broker redeliver, not lose.
- * Up to `concurrency` frames are in flight, which lets the sink batch them. A write that fails
- * (spool full under the `block` policy) leaves the message unacknowledged and is reported, the
- * stream goes on; the broker's persistent session keeps the message.
+ * Up to `concurrency` frames are in flight, which lets the sink batch them. A failed write (spool
+ * full under the `block` policy) is reported and tried again with backoff; the message stays
+ * unacknowledged meanwhile, and the connection's back-pressure holds the broker back. After the
+ * last attempt the frame passes on unacknowledged (the broker redelivers it after a reconnect).
  */
 export function writeAndAck<M extends Acknowledgeable>(
-  sink: PointSink, options: PointOptions = {}, concurrency = 2048, onWriteError: (err: unknown, p: ProcessedFrame<M>) => void = () => {},
+  sink: PointSink, options: PointOptions = {}, concurrency = 2048,
+  onWriteError: (err: unknown, p: ProcessedFrame<M>) => void = () => {}, retryPolicy: WriteRetry = NO_RETRY,
 ): OperatorFunction<FrameOutput<M>, FrameOutput<M>> {
+  const scheduler = retryPolicy.scheduler ?? asyncScheduler;
   return mergeMap((p) => {
     if (p.kind !== 'frame') return of(p);
-    return sink.write(framePoints(p, options)).then(
-      () => { p.message.ack(); return p; },
-      (err: unknown) => { onWriteError(err, p); return p; },
+    const points = framePoints(p, options);
+    return defer(() => sink.write(points)).pipe(
+      retry({
+        count: retryPolicy.maxAttempts - 1,
+        delay: (err: unknown, attempt: number) => {
+          onWriteError(err, p);
+          const wait = timer(Math.min(retryPolicy.initialDelayMs * 2 ** (attempt - 1), retryPolicy.maxDelayMs), scheduler);
+          return retryPolicy.until ? wait.pipe(takeUntil(retryPolicy.until)) : wait;
+        },
+      }),
+      map(() => { p.message.ack(); return p; }),
+      catchError((err: unknown) => { onWriteError(err, p); return of(p); }),
     );
   }, concurrency);
 }

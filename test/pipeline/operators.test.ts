@@ -5,7 +5,7 @@ import type { Point, PointSink } from '../../src/model/point.js';
 import type { LoggerFrame } from '../../src/model/raw-message.js';
 import { processFrames, type FrameInput, type FrameOutput } from '../../src/pipeline/process-frames.js';
 import { writeAndAck } from '../../src/pipeline/write-and-ack.js';
-import { firstValueFrom, from, lastValueFrom, map, toArray } from 'rxjs';
+import { firstValueFrom, from, lastValueFrom, map, ReplaySubject, toArray } from 'rxjs';
 import { baseDoc, compileOrThrow, microGauge } from '../support/structures.js';
 
 const structure = compileOrThrow(baseDoc(
@@ -68,5 +68,27 @@ describe('writeAndAck', () => {
     const sink = new MemorySink();
     await lastValueFrom(from([processed({ ack() {} }, 7)]).pipe(writeAndAck(sink, { extraTags: { run: 'r9' } })));
     expect(sink.points.map((p) => `${p.measurement} ${p.tags.run} ${p.fields.c1}`)).toEqual(['sw_raw r9 7']);
+  });
+
+  it('tries a failed write again with backoff and acknowledges once it succeeds', async () => {
+    let calls = 0;
+    const flaky: PointSink = { write: async () => { if (++calls < 3) throw new Error('spool full'); }, close: async () => {} };
+    let acked = 0;
+    const errors: string[] = [];
+    await lastValueFrom(from([processed({ ack: () => { acked++; } }, 1)])
+      .pipe(writeAndAck(flaky, {}, 16, (err) => errors.push((err as Error).message), { maxAttempts: 10, initialDelayMs: 1, maxDelayMs: 4 })));
+    expect(calls).toBe(3);
+    expect(errors).toEqual(['spool full', 'spool full']);
+    expect(acked).toBe(1);
+  });
+
+  it('gives up waiting retries once told to stop, leaving the message unacknowledged', async () => {
+    const stop$ = new ReplaySubject<void>(1);
+    const failing: PointSink = { write: async () => { stop$.next(); throw new Error('spool full'); }, close: async () => {} };
+    let acked = 0;
+    const out = await lastValueFrom(from([processed({ ack: () => { acked++; } }, 1)])
+      .pipe(writeAndAck(failing, {}, 16, () => {}, { maxAttempts: Number.POSITIVE_INFINITY, initialDelayMs: 60_000, maxDelayMs: 60_000, until: stop$ }), toArray()));
+    expect(out).toHaveLength(0); // the frame never completed: not acknowledged, the broker redelivers it
+    expect(acked).toBe(0);
   });
 });

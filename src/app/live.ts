@@ -86,7 +86,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     filter(isCommand),
     // The command is taken at once: a command lost in a crash is sent again by its user, who
     // waits for the `acknowledged` message; holding it would hold every later PUBACK behind it.
-    map((m): AckEvent => { m.ack(); return parseAckPayload(m.raw.payload, m.raw.arrivalMs); }),
+    map((m): AckEvent => {
+      capture?.append(m.raw); // in the capture too, so a replay reproduces the acknowledgements
+      m.ack();
+      return parseAckPayload(m.raw.payload, m.raw.arrivalMs);
+    }),
   ), {
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: connection.publish, ...alarmFiles,
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),

@@ -1,7 +1,8 @@
-import { EMPTY, lastValueFrom, tap, type Observable } from 'rxjs';
+import { filter, lastValueFrom, map, share, tap, type Observable } from 'rxjs';
+import { ackTopic, parseAckPayload } from '../alarms/index.js';
 import type { AlarmTransition } from '../alarms/index.js';
 import { alarmLookups } from './lookups.js';
-import { attachAlarms } from './alarms-wiring.js';
+import { attachAlarms, type AckEvent } from './alarms-wiring.js';
 import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
 import type { CompiledStructure } from '../config/compile.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
@@ -10,7 +11,7 @@ import type { PointSink } from '../model/point.js';
 import type { RawMessage } from '../model/raw-message.js';
 import type { GroupResult } from '../model/result.js';
 import { FrameProcessor } from '../pipeline/frame-processor.js';
-import { pipeline, type PipelineMessage } from '../pipeline/pipeline.js';
+import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { writeAndAck } from '../pipeline/write-and-ack.js';
 import { replaySource } from './replay-source.js';
@@ -58,10 +59,18 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const collected: GroupResult[] = [];
   let messages = 0;
   let writeErrors = 0;
-  const processed$ = replaySource(o.messages, {
+  const commandTopic = o.structure.alarms ? ackTopic(o.structure.alarms, o.structure.structureId) : null;
+  const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && i.message.raw.topic === commandTopic;
+  // One pass over the capture, split like live: acknowledgement commands to the alarms, the rest to the pipeline.
+  const source$ = replaySource(o.messages, {
     tickMs: o.tickMs, speed: o.speed, sleep: o.sleep,
     onMessage: (n, raw) => { messages = n; clockMs = raw.arrivalMs; o.onMessage?.(n, raw); },
-  }).pipe(pipeline<PipelineMessage>({
+  }).pipe(share());
+  const acks$ = source$.pipe(
+    filter(isCommand),
+    map((i): AckEvent => { const raw = (i as { message: PipelineMessage }).message.raw; return parseAckPayload(raw.payload, raw.arrivalMs); }),
+  );
+  const processed$ = source$.pipe(filter((i) => !isCommand(i)), pipeline<PipelineMessage>({
     structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters: o.deadLetters,
     decodeCounts, processor: processor as FrameProcessor<unknown>,
   }));
@@ -69,7 +78,7 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const transitions: AlarmTransition[] = [];
   let clockMs = 0;
   const wiring = o.alarms && o.structure.alarms
-    ? attachAlarms(processed$, EMPTY, {
+    ? attachAlarms(processed$, acks$, {
       cfg: o.structure.alarms, lookups: alarmLookups(o.structure), now: () => clockMs, sink: o.sink,
       pointTags: { run: o.runTag }, webhook: 'record', onBatch: (b) => { transitions.push(...b.transitions); },
     })

@@ -87,4 +87,37 @@ describe('strainward replay', () => {
     // Every other group is untouched by the correction.
     expect(row('web-north-pier', 'von_mises_MPa')[1]).toBe(0);
   });
+
+  it('replays the acknowledgement commands recorded in the capture', async () => {
+    const { replay } = await import('../../src/app/replay.js');
+    const { MemorySink } = await import('../../src/adapters/memory-sink.js');
+    const { readCapture } = await import('../../src/adapters/capture/capture-reader.js');
+    const structure = await loadStructureFile('config/brannock-mere.yaml');
+    const first = await replay({
+      structure, messages: readCapture(join(dir, 'capture')), sink: new MemorySink(), runTag: 'a', tickMs: 1000, speed: 0,
+      deadLetters: { write: async () => {} }, sleep: async () => {}, alarms: true,
+    });
+    const raised = first.transitions.find((t) => t.kind === 'raised' && t.alarm.alarmClass === 'structural')!;
+    expect(raised).toBeDefined();
+    // The same capture with an engineer's acknowledgement recorded a second after the alarm was raised.
+    async function* withAck() {
+      let sent = false;
+      for await (const m of readCapture(join(dir, 'capture'))) {
+        if (!sent && m.arrivalMs > raised.atMs + 1000) {
+          sent = true;
+          const body = JSON.stringify({ alarm_id: raised.alarm.id, user: 'duty-engineer-1', reason: 'heavy vehicle seen on camera' });
+          yield { topic: 'strainward/brannock-mere/alarms/ack', payload: new TextEncoder().encode(body), arrivalMs: m.arrivalMs };
+        }
+        yield m;
+      }
+    }
+    const second = await replay({
+      structure, messages: withAck(), sink: new MemorySink(), runTag: 'b', tickMs: 1000, speed: 0,
+      deadLetters: { write: async () => {} }, sleep: async () => {}, alarms: true,
+    });
+    const ack = second.transitions.find((t) => t.kind === 'acknowledged' && t.alarm.id === raised.alarm.id);
+    expect(ack?.alarm.acknowledgement).toMatchObject({ user: 'duty-engineer-1', reason: 'heavy vehicle seen on camera' });
+    expect(second.results).toBe(first.results); // the command is not a logger message
+    expect(second.rejected).toBe(0);
+  });
 });

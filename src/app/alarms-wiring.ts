@@ -1,6 +1,6 @@
 import { concatMap, connectable, filter, map, merge, Subject, takeUntil, tap, type Observable, type Subscription } from 'rxjs';
 import {
-  alarmBatches, createAlarmEngine, createBatchHandler, loadSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
+  alarmBatches, createAlarmEngine, loadSnapshot, saveSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
 import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, TransitionKind } from '../alarms/types.js';
@@ -128,31 +128,37 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
     webhook: createWebhookDelivery({ ...deps.webhookDeps, ...(deps.webhook === 'record' ? { fetch: recordingFetch } : {}), now: deps.now }),
     log, now: deps.now,
   });
-  const handleBatch = createBatchHandler({ snapshotPath: deps.snapshotPath, dispatcher, sink });
 
-  const persistAndDeliver = async (batch: AlarmBatch): Promise<DeliveryRecord[]> => {
+  /** Persists the batch (snapshot, points) in order; its deliveries run on behind, per target. */
+  // (An object around the promise: an async function would otherwise wait for the deliveries.)
+  const persistAndDeliver = async (batch: AlarmBatch): Promise<{ deliveries: Promise<DeliveryRecord[]> }> => {
     try {
-      return await handleBatch(batch);
+      // The snapshot first, so a raised alarm survives a restart before anyone is told of it.
+      if (deps.snapshotPath !== undefined) await saveSnapshot(deps.snapshotPath, batch.snapshot());
     } catch (err) {
-      // Only the snapshot can fail here (sink and log are guarded): telling the crews comes first.
+      // Telling the crews comes first: a failed snapshot is counted and reported, never blocking.
       c.errors.snapshot++;
       report('alarm_snapshot_failed', err);
-      if (sink !== undefined && batch.transitions.length > 0) await sink.write(batch.transitions.map(transitionToPoint));
-      return dispatcher.dispatch(batch);
     }
+    if (sink !== undefined && batch.transitions.length > 0) await sink.write(batch.transitions.map(transitionToPoint));
+    return { deliveries: dispatcher.dispatch(batch) };
   };
+  // Observers see batches in order, each once its deliveries are done.
+  let reported: Promise<void> = Promise.resolve();
   const handle = async (w: Work): Promise<void> => {
     if (w.kind === 'refusal') {
       c.refusals++;
       await dispatcher.dispatch({ transitions: [], refusals: [w.refusal] });
       return;
     }
-    const records = await persistAndDeliver(w.batch);
+    const { deliveries } = await persistAndDeliver(w.batch);
     c.batches++;
     c.refusals += w.batch.refusals.length;
     for (const t of w.batch.transitions) c.transitions[t.kind]++;
-    for (const r of records) c.deliveries[r.status]++;
-    try { deps.onBatch?.(w.batch, records); } catch (err) { report('alarm_observer_failed', err); }
+    reported = reported.then(() => deliveries).then((records) => {
+      for (const r of records) c.deliveries[r.status]++;
+      try { deps.onBatch?.(w.batch, records); } catch (err) { report('alarm_observer_failed', err); }
+    });
   };
 
   let engine: AlarmEngine | undefined;
@@ -195,6 +201,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
       closed ??= (async () => {
         closing$.next();
         await done;
+        await reported; // every delivery done, every observer told
         await deps.log?.close().catch((err: unknown) => { c.errors.log++; report('alarm_log_failed', err); });
       })();
       return closed;

@@ -14,8 +14,15 @@ export interface DispatchAdapters {
 
 /** Sends transitions to their recipients and records everything in the alarm log. */
 export interface AlarmDispatcher {
-  /** Deliveries of one batch: transitions in order, each one's deliveries in parallel. Never throws on a failed delivery. */
+  /**
+   * Deliveries of one batch. The alarm log gets the transitions at once, in order. Each target (a
+   * topic, a webhook URL) has its own queue, so messages reach it in order while a target that is
+   * down (retrying) delays only itself, never the control room's topic. Resolves with this
+   * batch's delivery records once they are all done. Never throws on a failed delivery.
+   */
   dispatch(batch: { transitions: readonly AlarmTransition[]; refusals: readonly AckRefusal[] }): Promise<DeliveryRecord[]>;
+  /** Resolves when every queued delivery is done. */
+  idle(): Promise<void>;
 }
 
 export function createDispatcher(cfg: AlarmsConfig, adapters: DispatchAdapters): AlarmDispatcher {
@@ -33,17 +40,31 @@ export function createDispatcher(cfg: AlarmsConfig, adapters: DispatchAdapters):
       latencyMs: 0, startedMs,
     };
   };
+  const queues = new Map<string, Promise<unknown>>();
+  const enqueue = (d: Delivery): Promise<DeliveryRecord> => {
+    const key = `${d.recipientId}|${d.channel.kind}|${d.topic ?? (d.channel.kind === 'webhook' ? d.channel.url : '')}`;
+    const next = (queues.get(key) ?? Promise.resolve()).then(() => send(d)).then(async (rec) => {
+      await adapters.log?.delivery(rec);
+      return rec;
+    });
+    const tail = next.catch(() => undefined);
+    queues.set(key, tail);
+    // Forget a drained queue so the map holds only targets with work in flight.
+    void tail.then(() => { if (queues.get(key) === tail) queues.delete(key); });
+    return next;
+  };
   return {
     async dispatch(batch) {
-      const records: DeliveryRecord[] = [];
       for (const r of batch.refusals) await adapters.log?.refusal(r);
+      const pending: Promise<DeliveryRecord>[] = [];
       for (const t of batch.transitions) {
         await adapters.log?.transition(t);
-        const done = await Promise.all(selectDeliveries(cfg, t).map(send));
-        for (const rec of done) await adapters.log?.delivery(rec);
-        records.push(...done);
+        pending.push(...selectDeliveries(cfg, t).map(enqueue));
       }
-      return records;
+      return Promise.all(pending);
+    },
+    async idle() {
+      while (queues.size > 0) await Promise.all([...queues.values()]);
     },
   };
 }

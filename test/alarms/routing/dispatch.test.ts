@@ -41,7 +41,32 @@ describe('dispatcher', () => {
       'deck-crew:mqtt:delivered:1', 'deck-crew:webhook:failed:0', 'control:log:delivered:1',
     ]);
     expect(recs[0].latencyMs).toBe(5);
-    expect(lines).toEqual(['transition:raised', 'delivery:deck-crew:mqtt:delivered', 'delivery:deck-crew:webhook:failed', 'delivery:control:log:delivered']);
+    // The transition is logged at once; each delivery when it is done (targets run independently).
+    expect(lines[0]).toBe('transition:raised');
+    expect(lines.slice(1).sort()).toEqual(['delivery:control:log:delivered', 'delivery:deck-crew:mqtt:delivered', 'delivery:deck-crew:webhook:failed']);
+  });
+
+  it('a slow target delays only itself: later messages reach the other targets first, each target in order', async () => {
+    const events: string[] = [];
+    let releaseWebhook: () => void = () => {};
+    const webhookGate = new Promise<void>((r) => { releaseWebhook = r; });
+    const d = createDispatcher(cfg, {
+      mqtt: createMqttDelivery(async (topic) => void events.push(`mqtt ${topic}`), () => 0),
+      webhook: async (delivery) => {
+        await webhookGate; // a receiver that is down and being retried
+        events.push(`webhook ${delivery.transition.kind}`);
+        return { recipientId: delivery.recipientId, channel: 'webhook', target: 'x', alarmId: delivery.transition.alarm.id, transition: delivery.transition.kind,
+          status: 'delivered', attemptCount: 1, attempts: [], latencyMs: 0, startedMs: 0 };
+      },
+      now: () => 0,
+    });
+    const first = d.dispatch({ transitions: [t], refusals: [] });
+    const second = d.dispatch({ transitions: [{ ...t, kind: 'escalated' }], refusals: [] });
+    await new Promise((r) => setTimeout(r, 20));
+    expect(events).toEqual(['mqtt sw/brannock-mere/span-1/action', 'mqtt sw/brannock-mere/span-1/action']);
+    releaseWebhook();
+    await Promise.all([first, second, d.idle()]);
+    expect(events.slice(2)).toEqual(['webhook raised', 'webhook escalated']);
   });
 
   it('an MQTT publish failure is a failed record, not a thrown error', async () => {

@@ -2,8 +2,14 @@ import { clockLabel, esc } from './format.js';
 import { timeTicks } from './ticks.js';
 import type { ActiveSpan, ReportAlarmTransition } from './types.js';
 
-/** Row label of an alarm: what it is about (group, channel, check quantity), else its id. */
+/**
+ * Row label of an alarm: the instrument it is about (channel, else group) and the check or rule,
+ * which is the second part of an alarm id `<structure>:<rule>:<subject>:<n>`; else the whole id.
+ */
 export function alarmLabel(a: ReportAlarmTransition): string {
+  const rule = a.alarm_id.split(':')[1];
+  const subject = a.channel ?? a.group_id;
+  if (rule !== undefined && subject !== undefined) return `${subject} · ${rule}`;
   return [a.group_id, a.channel, a.quantity].filter((x) => x !== undefined && x !== '').join(' · ') || a.alarm_id;
 }
 
@@ -29,11 +35,16 @@ export function activeSpans(transitions: readonly ReportAlarmTransition[], cls: 
 }
 
 const ROW = 18;
-const LEFT = 230;
+/** Width of one character of the 11 px label font, px (generous, so labels are never cut). */
+const CHAR_PX = 6.6;
 
 /** Timeline of active spans as SVG, one row per label; a span still open runs to toMs. Pure. */
 export function timelineChart(spans: readonly ActiveSpan[], fromMs: number, toMs: number, widthPx: number, title: string): string {
   const labels = [...new Set(spans.map((s) => s.label))];
+  // Room for the longest label, up to 45 % of the width (longer ones are shortened, full text on hover).
+  const maxChars = Math.floor((widthPx * 0.45 - 12) / CHAR_PX);
+  const LEFT = Math.round(Math.min(Math.max(...labels.map((l) => l.length), 12) * CHAR_PX + 12, widthPx * 0.45));
+  const shown = (l: string) => (l.length > maxChars ? `${l.slice(0, maxChars - 1)}…` : l);
   const H = 40 + Math.max(1, labels.length) * ROW;
   const pw = widthPx - LEFT - 14;
   const span = Math.max(toMs - fromMs, 1);
@@ -43,7 +54,7 @@ export function timelineChart(spans: readonly ActiveSpan[], fromMs: number, toMs
   parts.push(`<rect class="plot" x="${LEFT}" y="10" width="${pw}" height="${H - 40}"/>`);
   labels.forEach((label, i) => {
     const y = 10 + i * ROW;
-    parts.push(`<text class="tick" x="${LEFT - 6}" y="${y + 13}" text-anchor="end">${esc(label)}</text>`);
+    parts.push(`<text class="tick" x="${LEFT - 6}" y="${y + 13}" text-anchor="end"><title>${esc(label)}</title>${esc(shown(label))}</text>`);
     for (const s of spans.filter((x) => x.label === label)) {
       const xa = X(s.fromMs), xb = X(s.toMs ?? toMs);
       parts.push(`<rect class="span" data-alarm="${esc(s.alarm_id)}" x="${r1(xa)}" y="${y + 3}" width="${r1(Math.max(2, xb - xa))}" height="${ROW - 6}"><title>${esc(`${s.label}: ${s.level}, ${clockLabel(s.fromMs, 1)} – ${s.toMs === null ? 'still active' : clockLabel(s.toMs, 1)}`)}</title></rect>`);

@@ -79,8 +79,13 @@ export function replayCommand(): Command {
         bar?.finish(summary.messages);
         return summary;
       };
-      const sink = o.database
-        ? (await openPointSink(loaded!.runtime, loaded!.baseDir, Date.now)).sink
+      if (o.database && !loaded?.runtime.database) throw new UsageError(`--database: ${o.config} configures no database`);
+      // A replay into the database has its own spool, never the live processor's.
+      const replayRuntime = o.database && loaded?.runtime.database
+        ? { ...loaded.runtime, database: { ...loaded.runtime.database, spool: { ...loaded.runtime.database.spool, dir: `${loaded.runtime.database.spool.dir}-replay-${o.runTag}` } } }
+        : null;
+      const sink = replayRuntime
+        ? (await openPointSink(replayRuntime, loaded!.baseDir, Date.now)).sink
         : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
       const first = await run(structure, o.runTag, sink, o.report !== undefined);
       process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitions.length} alarm transitions\n`);

@@ -34,9 +34,9 @@ export function groupGaps(results: readonly GroupResult[], gapFactor: number): G
 /** One group's plots: stresses, equivalent and principal stresses, temperature, angle (plane), residual (redundant). Pure. */
 export function groupSection(groupId: string, results: readonly GroupResult[], ctx: GroupSectionContext): string {
   const gaps = groupGaps(results, ctx.gapFactor);
-  const series = (q: ResultQuantity, i: number, rs: readonly GroupResult[] = results, dashed = false, label = short(q)): ChartSeries => ({
+  const series = (q: ResultQuantity, i: number, rs: readonly GroupResult[] = results, dashed = false, label = short(q), periodDeg = 0): ChartSeries => ({
     id: `${groupId}:${q}${dashed ? ':b' : ''}`, label, color: PALETTE[i % PALETTE.length], dashed,
-    segments: downsample(segmentsOf(rs, q, dashed ? findGaps(rs.map((r) => r.timeMs), ctx.gapFactor) : gaps), ctx.fromMs, ctx.toMs, ctx.widthPx),
+    segments: downsample(segmentsOf(rs, q, dashed ? findGaps(rs.map((r) => r.timeMs), ctx.gapFactor) : gaps, periodDeg), ctx.fromMs, ctx.toMs, ctx.widthPx),
   });
   const chart = (title: string, unit: string, qs: ResultQuantity[], extra: ChartSeries[] = []) => lineChart({
     title, unit, fromMs: ctx.fromMs, toMs: ctx.toMs, widthPx: ctx.widthPx, gaps,
@@ -52,7 +52,15 @@ export function groupSection(groupId: string, results: readonly GroupResult[], c
     ? [series('von_mises_MPa', 5, ctx.comparison.results, true, `von_mises (${ctx.comparison.label})`)] : [];
   if (eqQs.length) out.push(chart('Equivalent and principal stresses', 'MPa', eqQs, cmp));
   if (has(results, 'temperature_degC')) out.push(chart('Temperature used', '°C', ['temperature_degC']));
-  if (has(results, 'principal_angle_deg')) out.push(chart('Principal direction (angle from x to principal 1)', 'degrees', ['principal_angle_deg']));
+  if (has(results, 'principal_angle_deg')) {
+    // Where the in-plane stress is nearly equal in every direction the principal direction is not
+    // defined by the data (noise swings it through 180 degrees): draw it only where it means something.
+    const radius = (r: GroupResult) => ((r.values.principal_1_MPa ?? 0) - (r.values.principal_2_MPa ?? 0)) / 2;
+    const floor = Math.max(0.5, 0.05 * results.reduce((m, r) => Math.max(m, radius(r)), 0));
+    const masked = results.map((r) => (radius(r) >= floor ? r : { ...r, values: { ...r.values, principal_angle_deg: undefined } }));
+    out.push(chart('Principal direction (angle from x to principal 1)', 'degrees', [], [series('principal_angle_deg', 0, masked, false, 'principal_angle', 180)]));
+    out.push(`<p class="meta">Angle drawn where the in-plane maximum shear stress is at least ${floor.toFixed(2)} MPa.</p>`);
+  }
   if (has(results, 'residual_rms_micro')) out.push(chart('Least-squares residual (redundant group)', 'microstrain', ['residual_rms_micro']));
   if (gaps.length) {
     out.push(`<p class="gaps">Data gaps (missing data is itself an alarm): ${gaps.map((g) =>

@@ -27,7 +27,7 @@ export function findGaps(times: readonly number[], gapFactor: number): Gap[] {
  * The samples of one quantity split into segments: a new segment starts after a gap and after
  * any result that lacks the quantity (e.g. an underdetermined result), so the line breaks there.
  */
-export function segmentsOf(results: readonly GroupResult[], q: ResultQuantity, gaps: readonly Gap[]): Segment[] {
+export function segmentsOf(results: readonly GroupResult[], q: ResultQuantity, gaps: readonly Gap[], periodDeg = 0): Segment[] {
   const out: Segment[] = [];
   let cur: Segment | null = null;
   let gi = 0;
@@ -36,7 +36,10 @@ export function segmentsOf(results: readonly GroupResult[], q: ResultQuantity, g
     const afterGap = gi < gaps.length && gaps[gi].toMs === r.timeMs;
     const v = r.values[q];
     if (v === undefined || !Number.isFinite(v)) { cur = null; continue; }
-    if (cur === null || afterGap) { cur = { t: [], v: [] }; out.push(cur); }
+    // A periodic quantity (a principal direction: 180 degrees) that wraps from +90 to -90 is not a
+    // jump: the line breaks there instead of drawing a spurious stroke across the plot.
+    const wraps = periodDeg > 0 && cur !== null && Math.abs(v - cur.v[cur.v.length - 1]) > periodDeg / 2;
+    if (cur === null || afterGap || wraps) { cur = { t: [], v: [] }; out.push(cur); }
     cur.t.push(r.timeMs);
     cur.v.push(v);
   }

@@ -49,3 +49,12 @@ describe('gaps and downsampling', () => {
     for (let i = 1; i < d.t.length; i++) expect(d.t[i]).toBeGreaterThan(d.t[i - 1]);
   });
 });
+
+describe('periodic quantities', () => {
+  it('breaks a principal direction where it wraps from +90 to -90 degrees, not elsewhere', () => {
+    const mk = (t: number, a: number) => ({ structureId: 's', groupId: 'g', zone: 'z', loggerId: 'l', timeMs: t, seq: null, values: { principal_angle_deg: a }, elementStrainMicro: {}, flags: [] });
+    const rs = [mk(0, 80), mk(1, 88), mk(2, -89), mk(3, -85), mk(4, -40)];
+    expect(segmentsOf(rs, 'principal_angle_deg', [], 180).map((s) => s.v)).toEqual([[80, 88], [-89, -85, -40]]);
+    expect(segmentsOf(rs, 'principal_angle_deg', []).map((s) => s.v)).toEqual([[80, 88, -89, -85, -40]]);
+  });
+});

@@ -18,7 +18,8 @@ export const FaultListSchema = z.string().transform((s, ctx): FaultKind[] => {
 export const CliOptionsSchema = z.strictObject({
   config: z.string().min(1),
   seed: z.coerce.number().int(),
-  start: z.iso.datetime({ offset: true }).transform((s) => Date.parse(s)),
+  /** ISO 8601 with zone, or `now` (whole seconds) for a live run whose logger clocks must agree with the processor's. */
+  start: z.union([z.literal('now'), z.iso.datetime({ offset: true })]).transform((s) => (s === 'now' ? Math.ceil(Date.now() / 1000) * 1000 : Date.parse(s))),
   durationS: z.coerce.number().positive(),
   dayS: z.coerce.number().positive(),
   rateFactor: z.coerce.number().positive(),

@@ -14,6 +14,9 @@ describe('simulator CLI options', () => {
     expect(o.faults).toEqual(['debond', 'silent']);
     expect(CliOptionsSchema.parse({ ...good, faults: 'all' }).faults).toHaveLength(6);
     expect(CliOptionsSchema.parse({ ...good, faults: 'none' }).faults).toEqual([]);
+    const now = CliOptionsSchema.parse({ ...good, start: 'now' }).start;
+    expect(now % 1000).toBe(0);
+    expect(Math.abs(now - Date.now())).toBeLessThan(2000);
   });
 
   it('names the field and the reason for bad ones', () => {

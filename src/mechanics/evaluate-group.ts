@@ -36,8 +36,12 @@ export function indicatedWithFactor(el: ElementModel, raw: number, gaugeFactor: 
  * gauge's thermal output, plus the free expansion of the body the reading is relative to.
  */
 export function totalStrainMicro(el: ElementModel, indicated: number, tempC: number, zeroTempC: number): number {
-  const thermalOutput = el.thermalOutput.length > 0 ? horner(el.thermalOutput, tempC) - el.thermalOutputAtZeroMicro : 0;
-  return indicated - thermalOutput + el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
+  return indicated - elementThermalOutputMicro(el, tempC) + el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
+}
+
+/** The gauge's thermal output at tempC, referenced to its zero-reading temperature (microstrain; 0 without a curve). */
+export function elementThermalOutputMicro(el: ElementModel, tempC: number): number {
+  return el.thermalOutput.length > 0 ? horner(el.thermalOutput, tempC) - el.thermalOutputAtZeroMicro : 0;
 }
 
 /**
@@ -85,7 +89,7 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
       thermalAt[i] = thermalAt[twin];
     } else {
       gfAt[i] = el.gfTempCoeff === 0 ? el.gaugeFactor : gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, t, el.gfRefTempC);
-      const thermalOutput = el.thermalOutput.length > 0 ? horner(el.thermalOutput, t) - el.thermalOutputAtZeroMicro : 0;
+      const thermalOutput = elementThermalOutputMicro(el, t);
       const free = freeStrain === freeStrain ? el.rowNormalSum * freeStrain : el.hostExpansionMicroPerDegC * dT;
       thermalAt[i] = el.referenceExpansionMicroPerDegC * dT - thermalOutput - free;
     }

@@ -1,10 +1,10 @@
 import { bridgeOutputRatio, gaugeFactorAt } from './bridge.js';
+import { elementThermalOutputMicro } from './evaluate-group.js';
 import {
   GROUP_PLANE, GROUP_SOLID, SIGNAL_BRIDGE, SIGNAL_MICROSTRAIN, SIGNAL_VW_HZ,
   type ElementModel, type GroupModel,
 } from './group-model.js';
 import { invertSquare } from './stiffness.js';
-import { thermalOutputMicro } from './thermal.js';
 
 /**
  * The mechanics run backwards: from a known stress state and temperature to the raw readings a
@@ -45,7 +45,7 @@ export function rawFromIndicated(el: ElementModel, indicated: number, tempC: num
 
 /** Indicated strain of an element whose TOTAL strain along its row is `total` (inverse of totalStrainMicro). */
 export function indicatedFromTotal(el: ElementModel, total: number, tempC: number, zeroTempC: number): number {
-  const to = el.thermalOutput.length > 0 ? thermalOutputMicro(el.thermalOutput, tempC, zeroTempC) : 0;
+  const to = elementThermalOutputMicro(el, tempC);
   return total + to - el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
 }
 

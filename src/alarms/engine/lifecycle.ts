@@ -74,12 +74,7 @@ export function applyCondition(
   if (s.level === null) {
     if (alarm.state === 'cleared_unacknowledged') return [];
     recordClear(ks, s.atMs, flapping);
-    alarm.lastChangeMs = s.atMs;
-    if (alarm.state === 'active_acknowledged') {
-      alarm.state = 'closed';
-      delete state.alarms[d.key];
-    } else alarm.state = 'cleared_unacknowledged';
-    return [{ kind: 'cleared', atMs: s.atMs, alarm: copy(alarm) }];
+    return clear(state, alarm, s.atMs);
   }
   if (alarm.state === 'cleared_unacknowledged') {
     // A re-raise of a visible alarm merges into it.
@@ -130,10 +125,15 @@ function whileFlapping(
   alarm.flapping = false;
   ks.clearsMs.length = 0;
   ks.quietSinceMs = null;
-  alarm.lastChangeMs = s.atMs;
+  return clear(state, alarm, s.atMs);
+}
+
+/** The condition is gone: an acknowledged alarm closes; an unacknowledged one stays visible until acknowledged. */
+function clear(state: EngineState, alarm: Alarm, atMs: number): AlarmTransition[] {
+  alarm.lastChangeMs = atMs;
   if (alarm.state === 'active_acknowledged') {
     alarm.state = 'closed';
     delete state.alarms[alarm.key];
   } else alarm.state = 'cleared_unacknowledged';
-  return [{ kind: 'cleared', atMs: s.atMs, alarm: copy(alarm) }];
+  return [{ kind: 'cleared', atMs, alarm: copy(alarm) }];
 }

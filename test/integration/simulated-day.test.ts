@@ -191,7 +191,7 @@ describe('a simulated compressed day through the live pipeline', () => {
       .map((p) => { const { run: _run, ...tags } = p.tags; return { ...p, tags }; }));
     const [a, b] = [strip(sink.points), strip(liveResults)];
     const firstDiff = a.findIndex((line, i) => line !== b[i]);
-    if (firstDiff >= 0) console.log('DIFF', firstDiff, '\n', a[firstDiff], '\n', b[firstDiff]);
+    expect(firstDiff, `first difference at line ${firstDiff}:\n${a[firstDiff]}\n${b[firstDiff]}`).toBe(-1);
     expect(strip(sink.points)).toEqual(strip(liveResults));
   });
 });

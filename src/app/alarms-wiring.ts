@@ -4,7 +4,7 @@ import {
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
 import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, TransitionKind } from '../alarms/types.js';
-import type { Point, PointSink } from '../model/point.js';
+import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 
 /** An acknowledgement command as decoded at the MQTT boundary (`parseAckPayload`'s result). */
@@ -29,7 +29,7 @@ export interface AlarmWiringDeps {
   /** Snapshot file, rewritten after every batch (absent: not persisted). */
   snapshotPath?: string;
   /** Where `sw_alarm` points go (not closed by the wiring: it is usually shared). */
-  sink?: PointSink;
+  sink?: PointWriter;
   /** Extra tags on every `sw_alarm` point, e.g. `{ run: 'replay-3' }`. */
   pointTags?: Readonly<Record<string, string>>;
   /** MQTT publish; absent: MQTT deliveries are recorded, not sent. */
@@ -215,8 +215,8 @@ function guardedLog(log: AlarmLog, failed: (err: unknown) => void): AlarmLog {
   return { transition: guard((t) => log.transition(t)), refusal: guard((r) => log.refusal(r)), delivery: guard((d) => log.delivery(d)), close: () => log.close() };
 }
 
-/** A sink adding tags, whose failures are counted and reported; closing it leaves the shared sink open. */
-function guardedSink(sink: PointSink, tags: Readonly<Record<string, string>> | undefined, failed: (err: unknown) => void): PointSink {
+/** A sink adding tags, whose failures are counted and reported. */
+function guardedSink(sink: PointWriter, tags: Readonly<Record<string, string>> | undefined, failed: (err: unknown) => void): PointWriter {
   const tagged = (p: Point): Point => (tags === undefined ? p : { ...p, tags: { ...p.tags, ...tags } });
-  return { write: (points) => sink.write(points.map(tagged)).catch(failed), close: async () => {} };
+  return { write: (points) => sink.write(points.map(tagged)).catch(failed) };
 }

@@ -1,8 +1,8 @@
 import { asyncScheduler, catchError, defer, map, mergeMap, of, retry, takeUntil, timer, type Observable, type OperatorFunction, type SchedulerLike } from 'rxjs';
-import type { PointSink } from '../model/point.js';
+import type { LineWriter } from '../model/point.js';
 import type { ProcessedFrame } from './frame-processor.js';
 import type { FrameOutput } from './process-frames.js';
-import { framePoints, type PointOptions } from './to-points.js';
+import { frameLineEncoder, type FrameLineOptions } from './frame-lines.js';
 
 /** Anything that can be acknowledged once its results are safe. */
 export interface Acknowledgeable {
@@ -33,24 +33,28 @@ export const NO_RETRY: WriteRetry = { maxAttempts: 1, initialDelayMs: 0, maxDela
  * last attempt the frame passes on unacknowledged (the broker redelivers it after a reconnect).
  */
 export function writeAndAck<M extends Acknowledgeable>(
-  sink: PointSink, options: PointOptions = {}, concurrency = 2048,
+  sink: LineWriter, options: FrameLineOptions = {}, concurrency = 2048,
   onWriteError: (err: unknown, p: ProcessedFrame<M>) => void = () => {}, retryPolicy: WriteRetry = NO_RETRY,
 ): OperatorFunction<FrameOutput<M>, FrameOutput<M>> {
   const scheduler = retryPolicy.scheduler ?? asyncScheduler;
-  return mergeMap((p) => {
-    if (p.kind !== 'frame') return of(p);
-    const points = framePoints(p, options);
-    return defer(() => sink.write(points)).pipe(
-      retry({
-        count: retryPolicy.maxAttempts - 1,
-        delay: (err: unknown, attempt: number) => {
-          onWriteError(err, p);
-          const wait = timer(Math.min(retryPolicy.initialDelayMs * 2 ** (attempt - 1), retryPolicy.maxDelayMs), scheduler);
-          return retryPolicy.until ? wait.pipe(takeUntil(retryPolicy.until)) : wait;
-        },
-      }),
-      map(() => { p.message.ack(); return p; }),
-      catchError((err: unknown) => { onWriteError(err, p); return of(p); }),
-    );
-  }, concurrency);
+  // One encoder per subscription: it keeps the prepared names of the series it has seen.
+  return (source) => defer(() => {
+    const encode = frameLineEncoder(options);
+    return source.pipe(mergeMap((p) => {
+      if (p.kind !== 'frame') return of(p);
+      const block = encode(p);
+      return defer(() => sink.writeLines(block)).pipe(
+        retry({
+          count: retryPolicy.maxAttempts - 1,
+          delay: (err: unknown, attempt: number) => {
+            onWriteError(err, p);
+            const wait = timer(Math.min(retryPolicy.initialDelayMs * 2 ** (attempt - 1), retryPolicy.maxDelayMs), scheduler);
+            return retryPolicy.until ? wait.pipe(takeUntil(retryPolicy.until)) : wait;
+          },
+        }),
+        map(() => { p.message.ack(); return p; }),
+        catchError((err: unknown) => { onWriteError(err, p); return of(p); }),
+      );
+    }, concurrency));
+  });
 }

@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { MemorySink } from '../../src/adapters/memory-sink.js';
 import { attachAlarms, openAlarmFiles, toAlarmInputs, type AckEvent, type AlarmWiringDeps } from '../../src/app/alarms-wiring.js';
 import { parseAckPayload, type AlarmLog, type AlarmLogLine } from '../../src/alarms/index.js';
-import type { Point, PointSink } from '../../src/model/point.js';
+import type { Point, PointWriter } from '../../src/model/point.js';
 import type { GroupResult } from '../../src/model/result.js';
 import type { FrameOutput } from '../../src/pipeline/process-frames.js';
 import { config, configInput, frame, lookups, result, T0 } from '../alarms/fixtures.js';
@@ -136,7 +136,7 @@ describe('attachAlarms', () => {
   it('still tells the crews when the point sink and the snapshot file fail, and counts both', async () => {
     const dir = await mkdtemp(join(tmpdir(), 'sw-wiring-'));
     await writeFile(join(dir, 'not-a-dir'), 'x');
-    const failing: PointSink = { write: async () => { throw new Error('database gone'); }, close: async () => {} };
+    const failing: PointWriter = { write: async () => { throw new Error('database gone'); } };
     const errors: string[] = [];
     const h = harness({ sink: failing, snapshotPath: join(dir, 'not-a-dir', 'state.json'), onError: (e) => errors.push(e) });
     h.push(scan(T0, 260));

@@ -12,6 +12,7 @@ import { loadStructureFile } from '../../src/config/load.js';
 import { parseRuntimeConfig } from '../../src/config/load-runtime.js';
 import type { CompiledStructure } from '../../src/config/compile.js';
 import { companionReading, readingsFromStress } from '../../src/mechanics/forward-model.js';
+import { qualityBit } from '../../src/model/quality.js';
 import { startMosquitto, startVictoriaMetrics } from '../support/servers.js';
 
 type Server = Awaited<ReturnType<typeof startMosquitto>>;
@@ -134,10 +135,15 @@ describe('live pipeline: MQTT in, stresses out to the time-series database', () 
   });
 
   it('flags results whose temperature was stale, and only those', async () => {
+    const staleBit = qualityBit('temperature_stale');
     for (const groupId of ['web-north-pier', 'slab-mid1', 'web-south-pier']) {
-      const [s] = await vm.exportSeries(`sw_result_flag_temperature_stale{group="${groupId}"}`);
-      const expected = truth.filter((t) => t.group === groupId).map((t) => (t.stale ? 1 : 0));
-      expect(s.values, groupId).toEqual(expected);
+      const expected = truth.filter((t) => t.group === groupId);
+      const [bits] = await vm.exportSeries(`sw_result_quality_bits{group="${groupId}"}`);
+      expect(bits.values.map((b) => (b & staleBit) !== 0 ? 1 : 0), groupId).toEqual(expected.map((t) => (t.stale ? 1 : 0)));
+      // The flag field is written only on the results that carry the flag.
+      const flagged = await vm.exportSeries(`sw_result_flag_temperature_stale{group="${groupId}"}`);
+      expect(flagged.flatMap((f) => f.timestamps), groupId).toEqual(expected.filter((t) => t.stale).map((t) => t.timeMs));
+      expect(flagged.flatMap((f) => f.values).every((v) => v === 1), groupId).toBe(true);
     }
     expect(truth.filter((t) => t.stale).length).toBe(3); // 2 pier frames + 1 slab frame at +100 s
   });

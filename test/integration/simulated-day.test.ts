@@ -130,7 +130,7 @@ describe('a simulated compressed day through the live pipeline', () => {
         if (t.faults.length > 0) continue;
         const p = byKey.get(`${t.group}@${t.logger_ts_ms}`);
         expect(p, `${t.group} at ${t.logger_ts_ms}`).toBeDefined();
-        if (p!.fields.good !== 1) continue;
+        if (p!.fields.quality_bits !== 0) continue;
         const g = structure.groupsById.get(t.group)!;
         const raw = Float64Array.from(g.elementChannels, (ch) => scan.values[ch] ?? Number.NaN);
         const comp = g.companion ? scan.values[g.companion.channelId] ?? Number.NaN : Number.NaN;

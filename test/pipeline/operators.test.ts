@@ -1,7 +1,7 @@
 import { TestScheduler } from 'rxjs/testing';
 import { describe, expect, it } from 'vitest';
 import { MemorySink } from '../../src/adapters/memory-sink.js';
-import type { Point, PointSink } from '../../src/model/point.js';
+import type { LineBlock, LineWriter } from '../../src/model/point.js';
 import type { LoggerFrame } from '../../src/model/raw-message.js';
 import { processFrames, type FrameInput, type FrameOutput } from '../../src/pipeline/process-frames.js';
 import { writeAndAck } from '../../src/pipeline/write-and-ack.js';
@@ -44,9 +44,8 @@ describe('writeAndAck', () => {
 
   it('acknowledges a frame only after its points are written, in order', async () => {
     const events: string[] = [];
-    const sink: PointSink = {
-      write: async (points: readonly Point[]) => { events.push(`write ${points[0].timeMs}`); },
-      close: async () => {},
+    const sink: LineWriter = {
+      writeLines: async (block: LineBlock) => { events.push(`write ${block.text.split(' ').pop()}`); },
     };
     const msg = (t: number) => ({ ack: () => events.push(`ack ${t}`) });
     await lastValueFrom(from([processed(msg(1), 1), { kind: 'tick', nowMs: 2 } as const, processed(msg(3), 3)]).pipe(writeAndAck(sink)));
@@ -54,7 +53,7 @@ describe('writeAndAck', () => {
   });
 
   it('leaves a message unacknowledged when its write fails, reports it, and goes on', async () => {
-    const failing: PointSink = { write: async () => { throw new Error('spool full'); }, close: async () => {} };
+    const failing: LineWriter = { writeLines: async () => { throw new Error('spool full'); } };
     let acked = 0;
     const errors: string[] = [];
     const out = await firstValueFrom(from([processed({ ack: () => { acked++; } }, 1), processed({ ack: () => { acked++; } }, 2)])
@@ -72,7 +71,7 @@ describe('writeAndAck', () => {
 
   it('tries a failed write again with backoff and acknowledges once it succeeds', async () => {
     let calls = 0;
-    const flaky: PointSink = { write: async () => { if (++calls < 3) throw new Error('spool full'); }, close: async () => {} };
+    const flaky: LineWriter = { writeLines: async () => { if (++calls < 3) throw new Error('spool full'); } };
     let acked = 0;
     const errors: string[] = [];
     await lastValueFrom(from([processed({ ack: () => { acked++; } }, 1)])
@@ -84,7 +83,7 @@ describe('writeAndAck', () => {
 
   it('gives up waiting retries once told to stop, leaving the message unacknowledged', async () => {
     const stop$ = new ReplaySubject<void>(1);
-    const failing: PointSink = { write: async () => { stop$.next(); throw new Error('spool full'); }, close: async () => {} };
+    const failing: LineWriter = { writeLines: async () => { stop$.next(); throw new Error('spool full'); } };
     let acked = 0;
     const out = await lastValueFrom(from([processed({ ack: () => { acked++; } }, 1)])
       .pipe(writeAndAck(failing, {}, 16, () => {}, { maxAttempts: Number.POSITIVE_INFINITY, initialDelayMs: 60_000, maxDelayMs: 60_000, until: stop$ }), toArray()));

@@ -13,7 +13,7 @@
  *   it is set aside in `<spool dir>/refused/` and counted in `refusedPoints`.
  * - The token is never logged; `lastError` and every error are redacted.
  */
-import type { Point, PointSink } from '../../model/point.js';
+import type { LineBlock, Point, PointSink } from '../../model/point.js';
 import { encodeLines } from '../lineproto/encode.js';
 import { Spool, type SpoolOptions } from '../spool/spool.js';
 import { cancellableSleep } from './backoff.js';
@@ -26,7 +26,9 @@ import { sendWithRetry } from './send-with-retry.js';
 export type { InfluxSinkOptions, InfluxSinkStatus } from './influx-sink-types.js';
 
 interface Pending {
-  lines: string[];
+  /** One or more lines, newline-separated. */
+  text: string;
+  lines: number;
   resolve: () => void;
   reject: (err: unknown) => void;
 }
@@ -56,7 +58,7 @@ export class InfluxSink implements PointSink {
       post: this.post,
       onWritten: (n) => this.noteWritten(n),
       onFailed: (err) => this.noteFailed(err),
-      onRefused: (lines) => this.setAside(lines),
+      onRefused: (lines) => this.setAside(lines, lines.length),
     });
     if (!opts.spool.isEmpty()) this.drainer.kick();
   }
@@ -64,10 +66,15 @@ export class InfluxSink implements PointSink {
   write(points: readonly Point[]): Promise<void> {
     if (this.closed) return Promise.reject(new Error('influx sink: write after close'));
     const lines = encodeLines(points);
-    if (lines.length === 0) return Promise.resolve();
+    return this.writeLines({ text: lines.join('\n'), lines: lines.length });
+  }
+
+  writeLines(block: LineBlock): Promise<void> {
+    if (this.closed) return Promise.reject(new Error('influx sink: write after close'));
+    if (block.lines === 0) return Promise.resolve();
     return new Promise<void>((resolve, reject) => {
-      this.pending.push({ lines, resolve, reject });
-      this.pendingLines += lines.length;
+      this.pending.push({ text: block.text, lines: block.lines, resolve, reject });
+      this.pendingLines += block.lines;
       if (this.pendingLines >= this.opts.batchSize) this.startPump();
       else this.armTimer();
     });
@@ -133,13 +140,13 @@ export class InfluxSink implements PointSink {
       while (this.pending.length > 0 && count < this.opts.batchSize) {
         const next = this.pending.shift()!;
         batch.push(next);
-        count += next.lines.length;
+        count += next.lines;
       }
       this.pendingLines -= count;
       if (this.pending.length === 0) this.flushDue = false;
       this.inFlightLines = count;
       try {
-        await this.deliver(batch.flatMap((p) => p.lines));
+        await this.deliver(batch.map((p) => p.text), count);
         for (const p of batch) p.resolve();
       } catch (err) {
         for (const p of batch) p.reject(err);
@@ -154,24 +161,24 @@ export class InfluxSink implements PointSink {
   }
 
   /** Database first when nothing is spooled; otherwise (or when it fails) behind the spool. */
-  private async deliver(lines: string[]): Promise<void> {
+  private async deliver(texts: string[], lines: number): Promise<void> {
     if (this.opts.spool.isEmpty() && !this.drainer.running) {
       try {
-        await sendWithRetry(() => this.post(lines), this.opts, (err) => this.noteFailed(err));
-        this.noteWritten(lines.length);
+        await sendWithRetry(() => this.post(texts), this.opts, (err) => this.noteFailed(err));
+        this.noteWritten(lines);
         return;
       } catch (err) {
-        if (err instanceof DatabaseWriteError && !err.retryable) return this.setAside(lines);
+        if (err instanceof DatabaseWriteError && !err.retryable) return this.setAside(texts, lines);
       }
     }
-    await this.opts.spool.append(lines);
-    this.counters.spooledPoints += lines.length;
+    await this.opts.spool.append(texts, lines);
+    this.counters.spooledPoints += lines;
     this.drainer.kick();
   }
 
-  private async setAside(lines: readonly string[]): Promise<void> {
-    await setAsideRefused(this.opts.spool.dir, lines, this.now());
-    this.counters.refusedPoints += lines.length;
+  private async setAside(texts: readonly string[], lines: number): Promise<void> {
+    await setAsideRefused(this.opts.spool.dir, texts, this.now());
+    this.counters.refusedPoints += lines;
   }
 
   private noteWritten(n: number): void {

@@ -6,7 +6,7 @@
  */
 import { mkdir, open, readdir, type FileHandle } from 'node:fs/promises';
 import { join } from 'node:path';
-import type { Point, PointSink } from '../../model/point.js';
+import type { LineBlock, Point, PointSink } from '../../model/point.js';
 import { encodeLines } from './encode.js';
 
 export interface LineFileSinkOptions {
@@ -54,9 +54,14 @@ export class LineFileSink implements PointSink {
     if (this.closed) return Promise.reject(new Error('line file sink: write after close'));
     const lines = encodeLines(points);
     this.skippedPoints += points.length - lines.length;
-    if (lines.length === 0) return this.chain;
-    const text = lines.join('\n') + '\n';
-    const run = this.chain.then(() => this.append(text, lines.length));
+    return this.writeLines({ text: lines.join('\n'), lines: lines.length });
+  }
+
+  writeLines(block: LineBlock): Promise<void> {
+    if (this.closed) return Promise.reject(new Error('line file sink: write after close'));
+    if (block.lines === 0) return this.chain;
+    const text = block.text + '\n';
+    const run = this.chain.then(() => this.append(text, block.lines));
     this.chain = run.catch(() => undefined); // one failed write must not poison the next
     return run;
   }

@@ -93,13 +93,16 @@ export class Spool {
     };
   }
 
-  /** Appends lines (no newlines inside) behind everything held. Rejects with SpoolFullError at the limit under `block`. */
-  append(lines: readonly string[]): Promise<void> {
+  /**
+   * Appends texts of complete lines (each one or more lines, newline-separated, `lineCount` lines
+   * in all) behind everything held. Rejects with SpoolFullError at the limit under `block`.
+   */
+  append(texts: readonly string[], lineCount = texts.length): Promise<void> {
     return this.serial(async () => {
-      if (lines.length === 0) return;
-      const text = lines.join('\n') + '\n';
+      if (texts.length === 0) return;
+      const text = texts.join('\n') + '\n';
       const bytes = Buffer.byteLength(text);
-      await this.makeRoom(bytes, lines.length);
+      await this.makeRoom(bytes, lineCount);
       let last = this.segments[this.segments.length - 1];
       if (last === undefined || last.sealed || (last.bytes > 0 && last.bytes + bytes > this.segmentBytes)) {
         await this.seal();
@@ -110,7 +113,7 @@ export class Spool {
       await this.active!.appendFile(text, 'utf8');
       if (this.opts.fsync ?? true) await this.active!.sync();
       last.bytes += bytes;
-      last.lines += lines.length;
+      last.lines += lineCount;
       this.checkHighWater();
     });
   }

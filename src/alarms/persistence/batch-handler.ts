@@ -1,4 +1,4 @@
-import type { PointSink } from '../../model/point.js';
+import type { PointWriter } from '../../model/point.js';
 import type { AlarmBatch } from '../operator.js';
 import type { AlarmDispatcher } from '../routing/dispatch.js';
 import type { DeliveryRecord } from '../routing/delivery-record.js';
@@ -10,7 +10,7 @@ export interface BatchHandlerOptions {
   snapshotPath?: string;
   dispatcher: AlarmDispatcher;
   /** Where `sw_alarm` points go. */
-  sink?: PointSink;
+  sink?: PointWriter;
 }
 
 /**

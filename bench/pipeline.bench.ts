@@ -10,7 +10,7 @@
  *    fast as the broker takes them; latency = logger ts to the pipeline's ack (bench/support/ack-observer.ts);
  * 3. steady: about 10,000 channel values/s, paced, for STEADY_S seconds.
  * RSS is sampled every 50 ms throughout. Last printed line: one JSON object.
- * Environment (for quick looks): SW_BENCH_FRAMES, SW_BENCH_STEADY_S, SW_BENCH_GZIP_THRESHOLD (bytes).
+ * Environment (for quick looks): SW_BENCH_FRAMES, SW_BENCH_STEADY_S, SW_BENCH_GZIP (auto, always, never).
  */
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -96,12 +96,12 @@ async function main(): Promise<Record<string, number>> {
   const bareValuesPerS = bareRun.values / bareSeconds;
   console.log(`bare:     ${round(BARE_FRAMES / bareSeconds, 0)} frames/s, ${round(bareValuesPerS, 0)} values/s (broker took publishes at ${round(BARE_FRAMES / ((barePub.endMs - barePub.startMs) / 1000), 0)}/s), latency p50 ${bareRun.latency.percentile(50)} ms p99 ${bareRun.latency.percentile(99)} ms`);
 
-  // Phase 2: the live pipeline at full rate, with the runtime defaults (batch 5000 lines, flush 100 ms, gzip above 1000 bytes).
-  const gzipThreshold = process.env.SW_BENCH_GZIP_THRESHOLD ? { gzip_threshold_bytes: envInt('SW_BENCH_GZIP_THRESHOLD', 1000) } : {};
+  // Phase 2: the live pipeline at full rate, with the runtime defaults (gzip `auto`: none on loopback).
+  const gzip = process.env.SW_BENCH_GZIP ? { gzip: process.env.SW_BENCH_GZIP } : {};
   const rc = parseRuntimeConfig({
     schema_version: 1, structure: 'unused',
     mqtt: { url: broker.url, client_id: 'sw-bench-live' },
-    database: { url: vm.url, org: 'bench', bucket: 'bench', spool: { dir: join(dir, 'spool') }, ...gzipThreshold },
+    database: { url: vm.url, org: 'bench', bucket: 'bench', spool: { dir: join(dir, 'spool') }, ...gzip },
     dead_letters: { file: join(dir, 'deadletters.ndjson') },
   }, 'bench');
   const events = new Map<string, number>();

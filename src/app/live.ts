@@ -97,7 +97,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   });
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
-    processed$.pipe(writeAndAck(sink, {}, 2048, (err) => {
+    processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {
       writeErrors++;
       deps.log('write_failed', { message: err instanceof Error ? err.message : String(err) });
     }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });

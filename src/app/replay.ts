@@ -28,6 +28,8 @@ export interface ReplayOptions {
   /** 0 = full speed; 10 = ten times real time. */
   speed: number;
   sleep: (ms: number) => Promise<void>;
+  /** Write element strains with every result (the runtime configuration's `results.element_strains`). */
+  elementStrains?: boolean;
   /** Keep every result in memory (for the diagnosis report). */
   collectResults?: boolean;
   onMessage?: (count: number, raw: RawMessage) => void;
@@ -85,7 +87,7 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
     : null;
   await lastValueFrom(processed$.pipe(
     tap((p) => { if (o.collectResults && p.kind === 'frame') collected.push(...p.results); }),
-    writeAndAck(o.sink, { extraTags: { run: o.runTag } }, 2048, () => { writeErrors++; }),
+    writeAndAck(o.sink, { extraTags: { run: o.runTag }, elementStrains: o.elementStrains }, 2048, () => { writeErrors++; }),
   ), { defaultValue: null });
   await wiring?.close();
   await o.sink.close();

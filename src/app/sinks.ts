@@ -16,7 +16,7 @@ export async function openPointSink(
     const token = await loadToken({ env: db.token_env, file: db.token_file ? resolve(baseDir, db.token_file) : undefined });
     const influx = await openInfluxSink({
       url: db.url, org: db.org, bucket: db.bucket, token, timeout_ms: db.timeout_ms,
-      gzipThreshold_bytes: db.gzip_threshold_bytes, batchSize: db.batch_size, flushInterval_ms: db.flush_interval_ms,
+      gzipThreshold_bytes: gzipThreshold(db.gzip, db.gzip_threshold_bytes, db.url), batchSize: db.batch_size, flushInterval_ms: db.flush_interval_ms,
       maxRetries: db.max_retries, minRetryDelay_ms: db.min_retry_delay_ms, maxRetryDelay_ms: db.max_retry_delay_ms,
       now,
       spool: {
@@ -32,6 +32,17 @@ export async function openPointSink(
     dir, prefix: 'strainward', maxFileBytes: rc.line_protocol.max_file_bytes, maxFileAge_ms: rc.line_protocol.max_file_age_s * 1000, now,
   });
   return { sink: lineFiles, influx: null, lineFiles };
+}
+
+/** The gzip threshold the client gets: `never` and `auto` on a loopback database mean no compression. */
+export function gzipThreshold(mode: 'auto' | 'always' | 'never', thresholdBytes: number, url: string): number {
+  if (mode === 'never' || (mode === 'auto' && isLoopback(url))) return Number.MAX_SAFE_INTEGER;
+  return thresholdBytes;
+}
+
+function isLoopback(url: string): boolean {
+  const host = new URL(url).hostname.replace(/^\[|\]$/g, '');
+  return host === 'localhost' || host === '::1' || /^127\.\d+\.\d+\.\d+$/.test(host);
 }
 
 export async function ensureParent(path: string): Promise<string> {

@@ -27,6 +27,11 @@ export const RuntimeConfigSchema = z.strictObject({
     /** Stop reading from the broker while this many messages wait to be acknowledged (bounded memory under overload). */
     max_held_acks: z.number().int().min(2).default(4096),
   }),
+  /** What is written with every result, to the database or the files. */
+  results: z.strictObject({
+    /** Each element's mechanical strain (`el_<gauge>_micro`); a replay of the raw archive gives them later too. */
+    element_strains: z.boolean().default(false),
+  }).default({ element_strains: false }),
   /** Absent: results go to rotating line-protocol files (the embedded default). */
   database: z.strictObject({
     url: z.string().url(),
@@ -37,6 +42,8 @@ export const RuntimeConfigSchema = z.strictObject({
     batch_size: z.number().int().positive().default(5000),
     flush_interval_ms: duration_ms.default(100),
     timeout_ms: duration_ms.default(10_000),
+    /** auto: gzip unless the database is on this machine (loopback), where it costs CPU and saves nothing. */
+    gzip: z.enum(['auto', 'always', 'never']).default('auto'),
     gzip_threshold_bytes: z.number().int().min(0).default(1000),
     max_retries: z.number().int().min(0).default(3),
     min_retry_delay_ms: duration_ms.default(200),

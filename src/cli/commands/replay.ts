@@ -72,7 +72,7 @@ export function replayCommand(): Command {
         const summary = await replay({
           structure: s, messages: readCapture(o.capture, window), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
           deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
-          topicPattern: loaded?.runtime.mqtt.topic_pattern, collectResults: collect, alarms: true,
+          topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains, collectResults: collect, alarms: true,
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
           onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
         });

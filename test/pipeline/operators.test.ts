@@ -90,4 +90,31 @@ describe('writeAndAck', () => {
     expect(out).toHaveLength(0); // the frame never completed: not acknowledged, the broker redelivers it
     expect(acked).toBe(0);
   });
+
+  it('keeps at most `concurrency` writes in flight, starts the rest in arrival order, and completes after the last', async () => {
+    const started: string[] = [];
+    const finish: Array<() => void> = [];
+    const sink: LineWriter = { writeLines: (block) => new Promise<void>((resolve) => { started.push(block.text.split(' ').pop()!); finish.push(resolve); }) };
+    const acked: number[] = [];
+    let completed = false;
+    const out: number[] = [];
+    from([1, 2, 3, 4].map((t) => processed({ ack: () => acked.push(t) }, t))).pipe(writeAndAck(sink, {}, 2))
+      .subscribe({ next: (p) => { if (p.kind === 'frame') out.push(p.frame.timeMs); }, complete: () => { completed = true; } });
+    const tick = () => new Promise((r) => setTimeout(r, 0));
+    expect(started).toEqual(['1', '2']);
+    finish[1]();
+    await tick();
+    expect(started).toEqual(['1', '2', '3']);
+    expect(acked).toEqual([2]);
+    finish[0]();
+    finish[2]();
+    await tick();
+    expect(started).toEqual(['1', '2', '3', '4']);
+    expect(completed).toBe(false);
+    finish[3]();
+    await tick();
+    expect(acked).toEqual([2, 1, 3, 4]);
+    expect(out).toEqual([2, 1, 3, 4]);
+    expect(completed).toBe(true);
+  });
 });

@@ -16,7 +16,7 @@ export async function openPointSink(
     const token = await loadToken({ env: db.token_env, file: db.token_file ? resolve(baseDir, db.token_file) : undefined });
     const influx = await openInfluxSink({
       url: db.url, org: db.org, bucket: db.bucket, token, timeout_ms: db.timeout_ms,
-      gzipThreshold_bytes: gzipThreshold(db.gzip, db.gzip_threshold_bytes, db.url), batchSize: db.batch_size, flushInterval_ms: db.flush_interval_ms,
+      gzipThreshold_bytes: gzipThreshold(db.gzip, db.gzip_threshold_bytes, db.url), batchSize: db.batch_size, flushInterval_ms: db.flush_interval_ms, maxInFlight: db.max_in_flight,
       maxRetries: db.max_retries, minRetryDelay_ms: db.min_retry_delay_ms, maxRetryDelay_ms: db.max_retry_delay_ms,
       now,
       spool: {

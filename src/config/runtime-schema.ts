@@ -40,7 +40,9 @@ export const RuntimeConfigSchema = z.strictObject({
     token_env: z.string().min(1).optional(),
     token_file: z.string().min(1).optional(),
     batch_size: z.number().int().positive().default(5000),
-    flush_interval_ms: duration_ms.default(100),
+    flush_interval_ms: duration_ms.default(50),
+    /** Batches written at once: two let the server take one in while the next is being prepared. */
+    max_in_flight: z.number().int().min(1).max(16).default(2),
     timeout_ms: duration_ms.default(10_000),
     /** auto: gzip unless the database is on this machine (loopback), where it costs CPU and saves nothing. */
     gzip: z.enum(['auto', 'always', 'never']).default('auto'),

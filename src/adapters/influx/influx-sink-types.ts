@@ -8,6 +8,8 @@ export interface InfluxSinkOptions extends InfluxTarget, RetryPolicy {
   batchSize: number;
   /** Flush pending lines at most this long after the first arrived (ms). */
   flushInterval_ms: number;
+  /** Batches sent at once (>= 1). Default 1. Two let the database parse one while the next is encoded. */
+  maxInFlight?: number;
   /** The spool (opened by the caller, so a restarted process finds its old segments). */
   spool: Spool;
   /** Clock for the refused-lines file name (epoch ms). Default Date.now. */

@@ -3,7 +3,8 @@
  * local spool for outages.
  *
  * - Batching: points of many `write` calls collect until `batchSize` lines are pending or
- *   `flushInterval_ms` has passed; batches go out one at a time, in order.
+ *   `flushInterval_ms` has passed; up to `maxInFlight` batches go out at once. Points carry their
+ *   own timestamps, so batches in flight together may land in either order.
  * - Durability: each `write` resolves when all its points are written to the database or appended
  *   to the spool; it rejects with SpoolFullError when the spool refuses them (policy `block`).
  * - Outage: a batch is retried `maxRetries` times with back-off, then spooled. While the spool holds
@@ -38,9 +39,12 @@ export class InfluxSink implements PointSink {
   private pending: Pending[] = [];
   private pendingLines = 0;
   private inFlightLines = 0;
+  private inFlightBatches = 0;
+  private readonly maxInFlight: number;
   private flushDue = false;
   private timer: ReturnType<typeof setTimeout> | null = null;
-  private pumping: Promise<void> | null = null;
+  /** Waiting for nothing pending and nothing in flight (flush). */
+  private idleWaiters: Array<() => void> = [];
   private closed = false;
   private readonly now: () => number;
   private readonly post: (lines: readonly string[]) => Promise<void>;
@@ -50,6 +54,8 @@ export class InfluxSink implements PointSink {
 
   constructor(private readonly opts: InfluxSinkOptions) {
     if (!(opts.batchSize >= 1)) throw new RangeError('batchSize must be >= 1');
+    this.maxInFlight = opts.maxInFlight ?? 1;
+    if (!(this.maxInFlight >= 1)) throw new RangeError('maxInFlight must be >= 1');
     this.now = opts.now ?? Date.now;
     this.post = createLinePoster(opts);
     this.drainer = new SpoolDrainer({
@@ -84,7 +90,8 @@ export class InfluxSink implements PointSink {
   async flush(): Promise<void> {
     this.flushDue = true;
     this.startPump();
-    while (this.pumping) await this.pumping;
+    if (this.pending.length === 0 && this.inFlightBatches === 0) return;
+    await new Promise<void>((resolve) => this.idleWaiters.push(resolve));
   }
 
   /** Flushes, stops the drainer after its current chunk and closes the spool (which keeps its segments). */
@@ -97,7 +104,7 @@ export class InfluxSink implements PointSink {
 
   /** Resolves once the spool is empty and nothing is pending (tests and orderly shutdown). */
   async drained(pollMs = 20): Promise<void> {
-    while (this.pending.length > 0 || this.pumping || !this.opts.spool.isEmpty() || this.drainer.running) {
+    while (this.pending.length > 0 || this.inFlightBatches > 0 || !this.opts.spool.isEmpty() || this.drainer.running) {
       await cancellableSleep(pollMs).done;
     }
   }
@@ -125,16 +132,9 @@ export class InfluxSink implements PointSink {
     }, this.opts.flushInterval_ms);
   }
 
+  /** Sends batches while there is room in flight and a batch is due (full, or the flush timer ran out). */
   private startPump(): void {
-    if (this.pumping) return;
-    this.pumping = this.pump().finally(() => {
-      this.pumping = null;
-      if (this.pending.length > 0) this.armTimer();
-    });
-  }
-
-  private async pump(): Promise<void> {
-    while (this.pending.length > 0 && (this.flushDue || this.pendingLines >= this.opts.batchSize)) {
+    while (this.inFlightBatches < this.maxInFlight && this.pending.length > 0 && (this.flushDue || this.pendingLines >= this.opts.batchSize)) {
       const batch: Pending[] = [];
       let count = 0;
       while (this.pending.length > 0 && count < this.opts.batchSize) {
@@ -143,21 +143,25 @@ export class InfluxSink implements PointSink {
         count += next.lines;
       }
       this.pendingLines -= count;
-      if (this.pending.length === 0) this.flushDue = false;
-      this.inFlightLines = count;
-      try {
-        await this.deliver(batch.map((p) => p.text), count);
-        for (const p of batch) p.resolve();
-      } catch (err) {
-        for (const p of batch) p.reject(err);
-      } finally {
-        this.inFlightLines = 0;
+      this.inFlightLines += count;
+      this.inFlightBatches++;
+      // The counters are settled before the writers hear back, so status() agrees with them.
+      const done = (err: unknown) => {
+        this.inFlightLines -= count;
+        this.inFlightBatches--;
+        for (const p of batch) if (err === undefined) p.resolve(); else p.reject(err);
+        this.startPump();
+      };
+      this.deliver(batch.map((p) => p.text), count).then(() => done(undefined), (err: unknown) => done(err ?? new Error('database write failed')));
+    }
+    if (this.pending.length === 0) {
+      this.flushDue = false;
+      if (this.timer !== null) {
+        clearTimeout(this.timer);
+        this.timer = null;
       }
-    }
-    if (this.timer !== null && this.pending.length === 0) {
-      clearTimeout(this.timer);
-      this.timer = null;
-    }
+      if (this.inFlightBatches === 0) for (const wake of this.idleWaiters.splice(0)) wake();
+    } else this.armTimer();
   }
 
   /** Database first when nothing is spooled; otherwise (or when it fails) behind the spool. */

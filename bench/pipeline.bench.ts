@@ -8,7 +8,10 @@
  * 1. bare: an mqtt.js subscriber that only parses the JSON, scans as fast as the broker takes them;
  * 2. pipeline: `startLive` (decode, temperature join, stresses, database write, then PUBACK) as
  *    fast as the broker takes them; latency = logger ts to the pipeline's ack (bench/support/ack-observer.ts);
- * 3. steady: about 10,000 channel values/s, paced, for STEADY_S seconds.
+ * 3. steady: about 10,000 channel values/s, paced, for STEADY_S seconds;
+ * 4. database alone, after the live job has stopped: the same number of scans, encoded beforehand,
+ *    written through the same sink and settings (bench/support/database-alone.ts): the server's
+ *    ceiling for this layout on this machine.
  * RSS is sampled every 50 ms throughout. Last printed line: one JSON object.
  * Environment (for quick looks): SW_BENCH_FRAMES, SW_BENCH_STEADY_S, SW_BENCH_GZIP (auto, always, never).
  */
@@ -19,9 +22,10 @@ import { startLive } from '../src/app/live.js';
 import { parseRuntimeConfig } from '../src/config/load-runtime.js';
 import { startMosquitto, startVictoriaMetrics } from '../test/support/servers.js';
 import { AckObserver } from './support/ack-observer.js';
+import { measureDatabaseAlone } from './support/database-alone.js';
 import { startBareSubscriber } from './support/bare-subscriber.js';
 import { BENCH_LOGGER, CHANNELS_PER_FRAME, ROSETTES, benchStructure, scanValueBodies } from './support/bench-structure.js';
-import { RssSampler, round } from './support/measure.js';
+import { liveHeapMb, RssSampler, round } from './support/measure.js';
 import { startPublisher, type PublishJob, type PublishReport } from './support/publisher.js';
 
 const envInt = (name: string, fallback: number) => (process.env[name] ? Number.parseInt(process.env[name]!, 10) : fallback);
@@ -119,6 +123,7 @@ async function main(): Promise<Record<string, number>> {
   await untilTrue(() => acks.acked >= WARM_FRAMES, 'pipeline warm-up', status);
 
   acks.reset(PIPELINE_FRAMES);
+  const heapStart = liveHeapMb();
   const rssStart = rss.sample();
   let rssMid = Number.NaN;
   acks.onAck = (n) => { if (n === PIPELINE_FRAMES / 2) rssMid = rss.sample(); };
@@ -134,6 +139,7 @@ async function main(): Promise<Record<string, number>> {
   console.log(`          rss start ${round(rssStart)} MB, middle ${round(rssMid)} MB, end ${round(rssEnd)} MB (boot ${round(rssBoot)} MB)`);
 
   // Phase 3: steady ~10,000 values/s.
+  const heapAfterSaturation = liveHeapMb();
   acks.reset(STEADY_FRAMES);
   const rssSteadyStart = rss.sample();
   let rssSteadyMid = Number.NaN;
@@ -142,15 +148,22 @@ async function main(): Promise<Record<string, number>> {
   pipelineJobs.push(steadyPub);
   await untilTrue(() => acks.acked >= STEADY_FRAMES, 'steady', status);
   const rssSteadyEnd = rss.sample();
+  const heapSteadyEnd = liveHeapMb();
   const steadyValuesPerS = (STEADY_FRAMES * CHANNELS_PER_FRAME) / ((steadyPub.endMs - steadyPub.startMs) / 1000);
   const steadyP50 = acks.latency.percentile(50);
   const steadyP99 = acks.latency.percentile(99);
   console.log(`steady:   ${round(steadyValuesPerS, 0)} values/s offered (publisher behind schedule at most ${steadyPub.maxBehindSchedule} scans); latency p50 ${steadyP50} ms p99 ${steadyP99} ms max ${acks.latency.percentile(100)} ms, of which logger to pipeline process p50 ${acks.arrival.percentile(50)} ms p99 ${acks.arrival.percentile(99)} ms`);
   console.log(`          rss start ${round(rssSteadyStart)} MB, middle ${round(rssSteadyMid)} MB, end ${round(rssSteadyEnd)} MB; peak over the run ${round(rss.peak_mb)} MB`);
+  console.log(`memory:   live heap after a full collection: before the saturated run ${round(heapStart)} MB, after it ${round(heapAfterSaturation)} MB, after the steady run ${round(heapSteadyEnd)} MB`);
 
+  const peakRss = rss.peak_mb;
   liveStopped = true;
   await live.stop();
   rss.stop();
+  // Phase 4 (after the live job has stopped, its memory figures taken): the database alone, same layout, same sink settings.
+  const alone = await measureDatabaseAlone(structure, rc.database!, join(dir, 'spool-alone'), BENCH_LOGGER, bodies, PIPELINE_FRAMES, Date.now() - 3_600_000);
+  console.log(`database alone: ${round(alone.frames_per_s, 0)} frames/s (${alone.values_per_frame} values, ${alone.bytes_per_frame} bytes of line protocol per scan, encoded beforehand); the pipeline reached ${round(framesPerS / alone.frames_per_s, 3)} of it, and 0.5 of bare would need ${round((0.5 * bareValuesPerS / CHANNELS_PER_FRAME) / alone.frames_per_s, 2)} times it`);
+
   const frames = pipelineJobs.reduce((s, j) => s + j.published, 0);
   const db = live.status().database as { writtenPoints: number; spooledPoints: number; refusedPoints: number };
   const decode = live.status().decode as { accepted: number; rejected: number };
@@ -161,17 +174,20 @@ async function main(): Promise<Record<string, number>> {
   for (let attempt = 0; attempt < 7 && seen.size < frames; attempt++) {
     if (attempt > 0) await new Promise((r) => setTimeout(r, 500));
     await vm.forceFlush();
-    seen = new Set((await vm.exportSeries(`sw_raw_seq{logger="${BENCH_LOGGER}"}`)).flatMap((x) => x.values));
+    seen = new Set((await vm.exportSeries(`sw_raw_seq{logger="${BENCH_LOGGER}",run=""}`)).flatMap((x) => x.values));
   }
   const missing = [...Array(seq).keys()].filter((k) => k >= WARM_FRAMES + BARE_FRAMES && !seen.has(k));
   console.log(`database: ${seen.size} of ${frames} raw scans read back from the server${missing.length ? `; missing seq ${missing.slice(0, 12).join(', ')}${missing.length > 12 ? ' ...' : ''}` : ''}`);
 
   return {
     frames_per_s: round(framesPerS, 0), values_per_s: round(valuesPerS, 0), bare_values_per_s: round(bareValuesPerS, 0),
-    ratio: round(valuesPerS / bareValuesPerS, 3), p50_ms: p50, p99_ms: p99, peak_rss_mb: round(rss.peak_mb),
+    ratio: round(valuesPerS / bareValuesPerS, 3), p50_ms: p50, p99_ms: p99, peak_rss_mb: round(peakRss),
+    db_alone_frames_per_s: round(alone.frames_per_s, 0), ratio_to_db_alone: round(framesPerS / alone.frames_per_s, 3),
+    db_alone_ratio_to_bare: round((alone.frames_per_s * CHANNELS_PER_FRAME) / bareValuesPerS, 3),
     steady_values_per_s: round(steadyValuesPerS, 0), steady_p50_ms: steadyP50, steady_p99_ms: steadyP99,
     rss_start_mb: round(rssStart), rss_mid_mb: round(rssMid), rss_end_mb: round(rssEnd),
     steady_rss_start_mb: round(rssSteadyStart), steady_rss_end_mb: round(rssSteadyEnd),
+    heap_start_mb: round(heapStart), heap_after_saturation_mb: round(heapAfterSaturation), heap_after_steady_mb: round(heapSteadyEnd),
     frames: PIPELINE_FRAMES, channels_per_frame: CHANNELS_PER_FRAME,
   };
 }

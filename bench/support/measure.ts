@@ -70,6 +70,17 @@ export class RssSampler {
   }
 }
 
+/**
+ * Live heap after a full collection, MB: the figure that shows a leak, where RSS also holds the
+ * garbage V8 has not collected yet. NaN unless node runs with --expose-gc (npm run bench:pipeline does).
+ */
+export function liveHeapMb(): number {
+  const gc = (globalThis as { gc?: () => void }).gc;
+  if (gc === undefined) return Number.NaN;
+  gc();
+  return process.memoryUsage().heapUsed / MB;
+}
+
 /** Rounds to `digits` decimals (for printing). */
 export function round(x: number, digits = 1): number {
   const f = 10 ** digits;

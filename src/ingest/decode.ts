@@ -60,7 +60,9 @@ export function decodeMessage(raw: RawMessage, directory: ChannelDirectory, patt
     return { ok: false, deadLetter: toDeadLetter(raw, rejections) };
   }
   const data = result.data;
-  const values = new Map<string, number | null>('values' in data ? Object.entries(data.values) : [[data.channel, data.value]]);
+  const values = new Map<string, number | null>();
+  if ('values' in data) for (const channel in data.values) values.set(channel, data.values[channel]);
+  else values.set(data.channel, data.value);
   return {
     ok: true,
     frame: {

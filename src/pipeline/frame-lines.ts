@@ -117,8 +117,9 @@ export function frameLineEncoder(options: FrameLineOptions = {}): FrameLineEncod
     out.bytes(rawKey(f.structureId, f.loggerId));
     out.byte(SPACE);
     let missing = 0;
-    for (const [ch, v] of f.values) {
-      if (v === null || !Number.isFinite(v)) { missing++; continue; }
+    for (const ch of f.values.keys()) { // keys, not entries: no pair array per reading
+      const v = f.values.get(ch);
+      if (v === null || v === undefined || !Number.isFinite(v)) { missing++; continue; }
       out.bytes(channelKey(ch));
       out.exact(v);
       out.byte(COMMA);

@@ -49,11 +49,14 @@ export class FrameProcessor<M> {
   private readonly histories = new Map<string, TemperatureHistory>();
   private readonly groups = new Map<string, GroupRuntime>();
   private readonly held = new Map<string, Array<{ frame: LoggerFrame; message: M; temperatures: Record<string, number> }>>();
-  private readonly sensorsByChannel = new Map<string, TemperatureChannel>();
+  /** Logger id -> channel id -> sensor (nested, so no key string is built per reading). */
+  private readonly sensorsByChannel = new Map<string, Map<string, TemperatureChannel>>();
 
   constructor(private readonly structure: CompiledStructure) {
     for (const t of structure.temperatureSensors.values()) {
-      this.sensorsByChannel.set(`${t.loggerId}/${t.channelId}`, t);
+      let byChannel = this.sensorsByChannel.get(t.loggerId);
+      if (byChannel === undefined) this.sensorsByChannel.set(t.loggerId, (byChannel = new Map()));
+      byChannel.set(t.channelId, t);
       this.histories.set(t.sensorId, new TemperatureHistory());
     }
     for (const g of structure.groups) {
@@ -119,9 +122,12 @@ export class FrameProcessor<M> {
 
   private takeTemperatures(frame: LoggerFrame): Record<string, number> {
     const accepted: Record<string, number> = {};
-    for (const [channel, value] of frame.values) {
-      const sensor = this.sensorsByChannel.get(`${frame.loggerId}/${channel}`);
-      if (!sensor || value === null) continue;
+    const sensors = this.sensorsByChannel.get(frame.loggerId);
+    if (sensors === undefined) return accepted;
+    // The logger's few sensors, looked up in the frame, rather than every reading of the frame.
+    for (const [channel, sensor] of sensors) {
+      const value = frame.values.get(channel);
+      if (value === null || value === undefined) continue;
       const c = value + sensor.offsetC;
       if (c < sensor.validMin || c > sensor.validMax) {
         this.counts.temperatureRejected++;

@@ -13,7 +13,9 @@
  *    written through the same sink and settings (bench/support/database-alone.ts): the server's
  *    ceiling for this layout on this machine.
  * RSS is sampled every 50 ms throughout. Last printed line: one JSON object.
- * Environment (for quick looks): SW_BENCH_FRAMES, SW_BENCH_STEADY_S, SW_BENCH_GZIP (auto, always, never).
+ * Environment (for quick looks): SW_BENCH_FRAMES, SW_BENCH_STEADY_S; SW_BENCH_MQTT and SW_BENCH_DATABASE,
+ * JSON objects merged over the runtime configuration's `mqtt` and `database` sections (for example
+ * SW_BENCH_DATABASE='{"gzip":"always","max_in_flight":1}'). Without them: the runtime defaults.
  */
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -100,12 +102,12 @@ async function main(): Promise<Record<string, number>> {
   const bareValuesPerS = bareRun.values / bareSeconds;
   console.log(`bare:     ${round(BARE_FRAMES / bareSeconds, 0)} frames/s, ${round(bareValuesPerS, 0)} values/s (broker took publishes at ${round(BARE_FRAMES / ((barePub.endMs - barePub.startMs) / 1000), 0)}/s), latency p50 ${bareRun.latency.percentile(50)} ms p99 ${bareRun.latency.percentile(99)} ms`);
 
-  // Phase 2: the live pipeline at full rate, with the runtime defaults (gzip `auto`: none on loopback).
-  const gzip = process.env.SW_BENCH_GZIP ? { gzip: process.env.SW_BENCH_GZIP } : {};
+  // Phase 2: the live pipeline at full rate, with the runtime defaults (gzip `auto`: none on loopback) unless overridden.
+  const overrides = (name: string): Record<string, unknown> => (process.env[name] ? JSON.parse(process.env[name]!) as Record<string, unknown> : {});
   const rc = parseRuntimeConfig({
     schema_version: 1, structure: 'unused',
-    mqtt: { url: broker.url, client_id: 'sw-bench-live' },
-    database: { url: vm.url, org: 'bench', bucket: 'bench', spool: { dir: join(dir, 'spool') }, ...gzip },
+    mqtt: { url: broker.url, client_id: 'sw-bench-live', ...overrides('SW_BENCH_MQTT') },
+    database: { url: vm.url, org: 'bench', bucket: 'bench', spool: { dir: join(dir, 'spool') }, ...overrides('SW_BENCH_DATABASE') },
     dead_letters: { file: join(dir, 'deadletters.ndjson') },
   }, 'bench');
   const events = new Map<string, number>();

@@ -13,6 +13,8 @@ const MINUS = 0x2d;
 const DOT = 0x2e;
 const ZERO = 0x30;
 const NEWLINE = 0x0a;
+/** Sign, 16 integer digits (below 9e15), point, 9 decimals. */
+const MAX_FIXED_BYTES = 27;
 
 export class LineBuffer {
   private buf = Buffer.allocUnsafe(1 << 16);
@@ -42,24 +44,28 @@ export class LineBuffer {
     const scaled = Math.round(Math.abs(value) * scale);
     if (!(scaled < EXACT_LIMIT)) return this.shortest(value);
     if (scaled === 0) return this.byte(ZERO);
-    if (value < 0) this.byte(MINUS);
     let whole = Math.floor(scaled / scale);
     let frac = scaled - whole * scale;
     // The division can round across an integer near 2^53 / scale: put the parts back in range.
     if (frac < 0) { whole -= 1; frac += scale; } else if (frac >= scale) { whole += 1; frac -= scale; }
-    this.unsigned(whole);
-    if (frac === 0) return;
-    let digits = decimals;
-    while (frac % 10 === 0) { frac /= 10; digits--; }
-    this.ensure(digits + 1);
-    this.buf[this.pos++] = DOT;
-    let p = this.pos + digits;
-    for (let i = 0; i < digits; i++) {
-      const q = Math.floor(frac / 10);
-      this.buf[--p] = ZERO + (frac - q * 10);
-      frac = q;
+    this.ensure(MAX_FIXED_BYTES);
+    const buf = this.buf;
+    let pos = this.pos;
+    if (value < 0) buf[pos++] = MINUS;
+    pos = writeUnsigned(buf, pos, whole);
+    if (frac !== 0) {
+      let digits = decimals;
+      while (frac % 10 === 0) { frac /= 10; digits--; }
+      buf[pos] = DOT;
+      // frac < 10^9 < 2^31: integer arithmetic.
+      for (let p = pos + digits; p > pos; p--) {
+        const q = (frac / 10) | 0;
+        buf[p] = ZERO + frac - q * 10;
+        frac = q;
+      }
+      pos += digits + 1;
     }
-    this.pos += digits;
+    this.pos = pos;
   }
 
   /**
@@ -101,16 +107,8 @@ export class LineBuffer {
   }
 
   private unsigned(n: number): void {
-    let len = 1;
-    for (let t = n; t >= 10; t = Math.floor(t / 10)) len++;
-    this.ensure(len);
-    let p = this.pos + len;
-    do {
-      const q = Math.floor(n / 10);
-      this.buf[--p] = ZERO + (n - q * 10);
-      n = q;
-    } while (n > 0);
-    this.pos += len;
+    this.ensure(MAX_FIXED_BYTES);
+    this.pos = writeUnsigned(this.buf, this.pos, n);
   }
 
   private ensure(extra: number): void {
@@ -119,4 +117,27 @@ export class LineBuffer {
     this.buf.copy(bigger, 0, 0, this.pos);
     this.buf = bigger;
   }
+}
+
+/** Writes the digits of a non-negative integer below 9e15 at `pos`; returns the position after them. */
+function writeUnsigned(buf: Buffer, pos: number, n: number): number {
+  if (n < 2_147_483_648) {
+    // int32 arithmetic for the common case: each digit costs a multiply and a shift.
+    let len = 1;
+    for (let t = n; t >= 10; t = (t / 10) | 0) len++;
+    for (let p = pos + len - 1; p >= pos; p--) {
+      const q = (n / 10) | 0;
+      buf[p] = ZERO + n - q * 10;
+      n = q;
+    }
+    return pos + len;
+  }
+  let len = 1;
+  for (let t = n; t >= 10; t = Math.floor(t / 10)) len++;
+  for (let p = pos + len - 1; p >= pos; p--) {
+    const q = Math.floor(n / 10);
+    buf[p] = ZERO + n - q * 10;
+    n = q;
+  }
+  return pos + len;
 }

@@ -24,6 +24,7 @@ import { startLive } from '../src/app/live.js';
 import { parseRuntimeConfig } from '../src/config/load-runtime.js';
 import { startMosquitto, startVictoriaMetrics } from '../test/support/servers.js';
 import { AckObserver } from './support/ack-observer.js';
+import { CpuMeter } from './support/cpu-meter.js';
 import { measureDatabaseAlone } from './support/database-alone.js';
 import { startBareSubscriber } from './support/bare-subscriber.js';
 import { BENCH_LOGGER, CHANNELS_PER_FRAME, ROSETTES, benchStructure, scanValueBodies } from './support/bench-structure.js';
@@ -129,16 +130,19 @@ async function main(): Promise<Record<string, number>> {
   const rssStart = rss.sample();
   let rssMid = Number.NaN;
   acks.onAck = (n) => { if (n === PIPELINE_FRAMES / 2) rssMid = rss.sample(); };
+  const cpu = new CpuMeter({ victoriametrics: vm.pid, mosquitto: broker.pid, publisher: publisher.pid });
   const pipePub = await withTimeout(publisher.publish(job(PIPELINE_FRAMES)), 'pipeline publish');
   pipelineJobs.push(pipePub);
   await untilTrue(() => acks.acked >= PIPELINE_FRAMES, 'pipeline', status);
   const rssEnd = rss.sample();
+  const cpuPipeline = cpu.percent();
   const framesPerS = PIPELINE_FRAMES / ((acks.lastAckMs - pipePub.startMs) / 1000);
   const valuesPerS = framesPerS * CHANNELS_PER_FRAME;
   const p50 = acks.latency.percentile(50);
   const p99 = acks.latency.percentile(99);
   console.log(`pipeline: ${round(framesPerS, 0)} frames/s, ${round(valuesPerS, 0)} values/s, ratio to bare ${round(valuesPerS / bareValuesPerS, 3)}; latency p50 ${p50} ms p99 ${p99} ms (saturated: includes the backlog)`);
   console.log(`          rss start ${round(rssStart)} MB, middle ${round(rssMid)} MB, end ${round(rssEnd)} MB (boot ${round(rssBoot)} MB)`);
+  console.log(`          CPU, % of one core (2 on this machine): strainward ${cpuPipeline.self}, VictoriaMetrics ${cpuPipeline.victoriametrics}, Mosquitto ${cpuPipeline.mosquitto}, publisher ${cpuPipeline.publisher}`);
 
   // Phase 3: steady ~10,000 values/s.
   const heapAfterSaturation = liveHeapMb();
@@ -163,8 +167,9 @@ async function main(): Promise<Record<string, number>> {
   await live.stop();
   rss.stop();
   // Phase 4 (after the live job has stopped, its memory figures taken): the database alone, same layout, same sink settings.
-  const alone = await measureDatabaseAlone(structure, rc.database!, join(dir, 'spool-alone'), BENCH_LOGGER, bodies, PIPELINE_FRAMES, Date.now() - 3_600_000);
+  const alone = await measureDatabaseAlone(structure, rc.database!, join(dir, 'spool-alone'), BENCH_LOGGER, bodies, PIPELINE_FRAMES, Date.now() - 3_600_000, { victoriametrics: vm.pid });
   console.log(`database alone: ${round(alone.frames_per_s, 0)} frames/s (${alone.values_per_frame} values, ${alone.bytes_per_frame} bytes of line protocol per scan, encoded beforehand); the pipeline reached ${round(framesPerS / alone.frames_per_s, 3)} of it, and 0.5 of bare would need ${round((0.5 * bareValuesPerS / CHANNELS_PER_FRAME) / alone.frames_per_s, 2)} times it`);
+  console.log(`          CPU, % of one core: the sink ${alone.cpu_pct.self}, VictoriaMetrics ${alone.cpu_pct.victoriametrics}`);
 
   const frames = pipelineJobs.reduce((s, j) => s + j.published, 0);
   const db = live.status().database as { writtenPoints: number; spooledPoints: number; refusedPoints: number };
@@ -184,6 +189,7 @@ async function main(): Promise<Record<string, number>> {
   return {
     frames_per_s: round(framesPerS, 0), values_per_s: round(valuesPerS, 0), bare_values_per_s: round(bareValuesPerS, 0),
     ratio: round(valuesPerS / bareValuesPerS, 3), p50_ms: p50, p99_ms: p99, peak_rss_mb: round(peakRss),
+    cpu_pct_strainward: cpuPipeline.self, cpu_pct_database: cpuPipeline.victoriametrics, cpu_pct_broker: cpuPipeline.mosquitto,
     db_alone_frames_per_s: round(alone.frames_per_s, 0), ratio_to_db_alone: round(framesPerS / alone.frames_per_s, 3),
     db_alone_ratio_to_bare: round((alone.frames_per_s * CHANNELS_PER_FRAME) / bareValuesPerS, 3),
     steady_values_per_s: round(steadyValuesPerS, 0), steady_p50_ms: steadyP50, steady_p99_ms: steadyP99,

@@ -12,17 +12,20 @@ import type { RuntimeConfig } from '../../src/config/runtime-schema.js';
 import type { LineBlock } from '../../src/model/point.js';
 import { FrameProcessor } from '../../src/pipeline/frame-processor.js';
 import { frameLineEncoder } from '../../src/pipeline/frame-lines.js';
+import { CpuMeter } from './cpu-meter.js';
 
 export interface DatabaseAloneRun {
   frames_per_s: number;
   values_per_frame: number;
   bytes_per_frame: number;
+  /** CPU over the timed part, % of one core: `self` (the sink) and the processes in `watch`. */
+  cpu_pct: Record<string, number>;
 }
 
 /** Encodes `count` scans of `logger` (values from `bodies`) with run tag `run`, then writes and times them. */
 export async function measureDatabaseAlone(
   structure: CompiledStructure, db: NonNullable<RuntimeConfig['database']>, spoolDir: string,
-  logger: string, bodies: readonly string[], count: number, startMs: number,
+  logger: string, bodies: readonly string[], count: number, startMs: number, watch: Readonly<Record<string, number>> = {},
 ): Promise<DatabaseAloneRun> {
   const processor = new FrameProcessor<null>(structure);
   const encode = frameLineEncoder({ extraTags: { run: 'database-alone' } });
@@ -38,13 +41,15 @@ export async function measureDatabaseAlone(
     flushInterval_ms: db.flush_interval_ms, maxInFlight: db.max_in_flight, maxRetries: 0, minRetryDelay_ms: 100, maxRetryDelay_ms: 100,
     spool: { dir: spoolDir, limitBytes: db.spool.limit_bytes },
   });
+  const cpu = new CpuMeter(watch);
   const t0 = performance.now();
   await Promise.all(blocks.map((b) => sink.writeLines(b)));
   const seconds = (performance.now() - t0) / 1000;
+  const cpuPct = cpu.percent();
   const status = sink.status();
   await sink.close();
   if (status.writtenPoints !== blocks.reduce((n, b) => n + b.lines, 0)) throw new Error(`database alone: ${status.writtenPoints} lines written, spooled ${status.spooledPoints}`);
   const sample = blocks[0].text;
   const fields = sample.split('\n').reduce((n, line) => n + line.split(' ')[1].split(',').length, 0);
-  return { frames_per_s: count / seconds, values_per_frame: fields, bytes_per_frame: Buffer.byteLength(sample) + 1 };
+  return { frames_per_s: count / seconds, values_per_frame: fields, bytes_per_frame: Buffer.byteLength(sample) + 1, cpu_pct: cpuPct };
 }

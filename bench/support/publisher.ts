@@ -29,6 +29,8 @@ export interface PublishReport {
 }
 
 export interface Publisher {
+  /** Process id of the child (benchmarks read its CPU time). */
+  pid: number;
   publish(job: PublishJob): Promise<PublishReport>;
   stop(): Promise<void>;
 }
@@ -63,6 +65,7 @@ export async function startPublisher(url: string): Promise<Publisher> {
     throw err;
   }
   return {
+    pid: child.pid!,
     publish: async (job) => (await request<{ report: PublishReport }>({ cmd: 'publish', job })).report,
     stop,
   };

@@ -95,6 +95,8 @@ export interface MosquittoServer {
   /** `mqtt://127.0.0.1:<port>` */
   url: string;
   port: number;
+  /** Process id (benchmarks read its CPU time). */
+  pid: number;
   stop(): Promise<void>;
 }
 
@@ -131,6 +133,7 @@ export async function startMosquitto(opts: { aclFile?: string; passwordFile?: st
   return {
     url: `mqtt://${LOOPBACK}:${port}`,
     port,
+    pid: child.pid!,
     async stop() {
       await stopChild(child);
       await rm(dir, { recursive: true, force: true });
@@ -149,6 +152,8 @@ export interface VictoriaMetricsServer {
   /** `http://127.0.0.1:<port>` */
   url: string;
   port: number;
+  /** Process id (benchmarks read its CPU time). */
+  pid: number;
   dataDir: string;
   stop(): Promise<void>;
   /** Makes recently written samples searchable (POST-free `GET /internal/force_flush`). */
@@ -187,6 +192,7 @@ export async function startVictoriaMetrics(opts: { dataDir?: string; port?: numb
   return {
     url,
     port,
+    pid: child.pid!,
     dataDir,
     async stop() {
       await stopChild(child);

@@ -84,9 +84,13 @@ export function compileStructure(input: unknown): CompileResult {
   });
   if (problems.length > 0) return { ok: false, problems };
 
-  const channels = new Set<string>();
-  for (const g of c.gauges) channels.add(`${g.channel.logger}/${g.channel.channel}`);
-  for (const t of c.temperature_sensors) channels.add(`${t.channel.logger}/${t.channel.channel}`);
+  // Logger id -> its channel ids: every message's channels are looked up without building a key.
+  const channels = new Map<string, Set<string>>();
+  for (const ch of [...c.gauges, ...c.temperature_sensors].map((x) => x.channel)) {
+    let onLogger = channels.get(ch.logger);
+    if (onLogger === undefined) channels.set(ch.logger, (onLogger = new Set()));
+    onLogger.add(ch.channel);
+  }
   const loggers = new Set(c.loggers.map((l) => l.id));
   const groupsByLogger = new Map<string, CompiledGroup[]>();
   for (const g of groups) groupsByLogger.set(g.loggerId, [...(groupsByLogger.get(g.loggerId) ?? []), g]);
@@ -98,7 +102,7 @@ export function compileStructure(input: unknown): CompileResult {
       directory: {
         structureId: c.structure.id,
         hasLogger: (id) => loggers.has(id),
-        hasChannel: (logger, channel) => channels.has(`${logger}/${channel}`),
+        hasChannel: (logger, channel) => channels.get(logger)?.has(channel) ?? false,
       },
       groups,
       groupsById: new Map(groups.map((g) => [g.config.id, g])),

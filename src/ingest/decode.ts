@@ -44,8 +44,9 @@ export function decodeMessage(raw: RawMessage, directory: ChannelDirectory, patt
     // half-processed: such a logger is misconfigured (wrong program, swapped cable map), and
     // its other values are then suspect too. Refusing it makes the fault visible at once.
     if (loggerId !== null) {
-      for (const { channelId, path } of channelsNamed(input)) {
+      for (const channelId of channelsNamed(input)) {
         if (!directory.hasChannel(loggerId, channelId)) {
+          const path = isRecord(input.values) ? `values.${channelId}` : 'channel';
           rejections.push({
             code: 'unknown_channel',
             path,
@@ -118,10 +119,10 @@ function isRecord(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 
-/** Channel ids a payload names, with their paths, whatever else is wrong with it. */
-function channelsNamed(input: Record<string, unknown>): { channelId: string; path: string }[] {
-  if (isRecord(input.values)) return Object.keys(input.values).map((id) => ({ channelId: id, path: `values.${id}` }));
-  if (typeof input.channel === 'string' && input.channel !== '') return [{ channelId: input.channel, path: 'channel' }];
+/** Channel ids a payload names, whatever else is wrong with it (paths are built only for a refusal). */
+function channelsNamed(input: Record<string, unknown>): string[] {
+  if (isRecord(input.values)) return Object.keys(input.values);
+  if (typeof input.channel === 'string' && input.channel !== '') return [input.channel];
   return [];
 }
 

@@ -26,6 +26,11 @@ export function qualityBits(flags: readonly QualityFlag[]): number {
   return bits;
 }
 
-export function flagsFromBits(bits: number): QualityFlag[] {
-  return QUALITY_FLAGS.filter((_, i) => (bits & (1 << i)) !== 0);
+/** Every combination of flags, built once: results share these frozen arrays instead of one each. */
+const FLAG_SETS: ReadonlyArray<readonly QualityFlag[]> = Array.from({ length: 1 << QUALITY_FLAGS.length },
+  (_, bits) => Object.freeze(QUALITY_FLAGS.filter((_, i) => (bits & (1 << i)) !== 0)));
+
+/** The flags of `bits`, in QUALITY_FLAGS order; a shared frozen array. */
+export function flagsFromBits(bits: number): readonly QualityFlag[] {
+  return FLAG_SETS[bits & (FLAG_SETS.length - 1)];
 }

@@ -41,5 +41,6 @@ export interface GroupResult {
   values: Partial<Record<ResultQuantity, number>>;
   /** Per element: mechanical strain along the element after thermal correction, microstrain. */
   elementStrainMicro: Record<string, number>;
-  flags: QualityFlag[];
+  /** Shared and frozen (see flagsFromBits): never mutate. */
+  flags: readonly QualityFlag[];
 }

@@ -47,14 +47,16 @@ export function writeAndAck<M extends Acknowledgeable>(
   return (source) => new Observable<FrameOutput<M>>((subscriber) => {
     // One encoder per subscription: it keeps the prepared names of the series it has seen.
     const encode = frameLineEncoder(options);
-    const waiting: FrameItem<M>[] = [];
+    // Frames beyond `concurrency`, oldest first; `head` walks it, so taking one is O(1) however long it grows (replay).
+    let waiting: Array<FrameItem<M> | undefined> = [];
+    let head = 0;
     const retries = new Set<Subscription>();
     let inFlight = 0;
     let sourceDone = false;
     let givenUp = false;
 
     const finishIfDone = () => {
-      if (sourceDone && inFlight === 0 && waiting.length === 0) subscriber.complete();
+      if (sourceDone && inFlight === 0 && head === waiting.length) subscriber.complete();
     };
     const attempt = (p: FrameItem<M>, block: ReturnType<typeof encode>, n: number): void => {
       let written: Promise<void>;
@@ -77,7 +79,7 @@ export function writeAndAck<M extends Acknowledgeable>(
           attempt(p, block, n + 1);
         }, delay);
         retries.add(retry); // it keeps its place among the `concurrency` until it is over
-      });
+      }).catch((err: unknown) => subscriber.error(err)); // a throwing ack() or error callback ends the stream, as in any operator
     };
     /** A frame's write is over: `emit` false when it was given up (not acknowledged, not passed on). */
     const settle = (p: FrameItem<M>, emit: boolean) => {
@@ -91,7 +93,15 @@ export function writeAndAck<M extends Acknowledgeable>(
       attempt(p, encode(p), 1);
     };
     const startWaiting = () => {
-      while (waiting.length > 0 && inFlight < concurrency) start(waiting.shift()!);
+      while (head < waiting.length && inFlight < concurrency) {
+        const next = waiting[head]!;
+        waiting[head++] = undefined; // started: the queue lets go of it
+        start(next);
+      }
+      if (head > 1024 && head * 2 > waiting.length) {
+        waiting = waiting.slice(head);
+        head = 0;
+      }
     };
 
     const stopRetries = retryPolicy.until?.subscribe(() => {
@@ -106,7 +116,7 @@ export function writeAndAck<M extends Acknowledgeable>(
     const upstream = source.subscribe({
       next: (p) => {
         if (p.kind !== 'frame') return subscriber.next(p);
-        if (inFlight < concurrency && waiting.length === 0) start(p);
+        if (inFlight < concurrency && head === waiting.length) start(p);
         else waiting.push(p);
       },
       error: (err) => subscriber.error(err),

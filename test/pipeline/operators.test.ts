@@ -117,4 +117,14 @@ describe('writeAndAck', () => {
     expect(out).toEqual([2, 1, 3, 4]);
     expect(completed).toBe(true);
   });
+
+  it('works through a long queue (a replay pushes thousands at once): every frame acknowledged once, in order', async () => {
+    const sink: LineWriter = { writeLines: () => new Promise<void>((resolve) => setImmediate(resolve)) };
+    const acked: number[] = [];
+    const n = 5_000;
+    const out = await lastValueFrom(from(Array.from({ length: n }, (_, i) => processed({ ack: () => acked.push(i) }, i)))
+      .pipe(writeAndAck(sink, {}, 3), toArray()));
+    expect(out).toHaveLength(n);
+    expect(acked).toEqual(Array.from({ length: n }, (_, i) => i));
+  });
 });

@@ -28,7 +28,8 @@ import { CpuMeter } from './support/cpu-meter.js';
 import { measureDatabaseAlone } from './support/database-alone.js';
 import { startBareSubscriber } from './support/bare-subscriber.js';
 import { BENCH_LOGGER, CHANNELS_PER_FRAME, ROSETTES, benchStructure, scanValueBodies } from './support/bench-structure.js';
-import { liveHeapMb, RssSampler, round } from './support/measure.js';
+import * as perfHooks from 'node:perf_hooks';
+import { GcTimer, liveHeapMb, RssSampler, round } from './support/measure.js';
 import { startPublisher, type PublishJob, type PublishReport } from './support/publisher.js';
 
 const envInt = (name: string, fallback: number) => (process.env[name] ? Number.parseInt(process.env[name]!, 10) : fallback);
@@ -131,18 +132,20 @@ async function main(): Promise<Record<string, number>> {
   let rssMid = Number.NaN;
   acks.onAck = (n) => { if (n === PIPELINE_FRAMES / 2) rssMid = rss.sample(); };
   const cpu = new CpuMeter({ victoriametrics: vm.pid, mosquitto: broker.pid, publisher: publisher.pid });
+  const gc = new GcTimer(perfHooks);
   const pipePub = await withTimeout(publisher.publish(job(PIPELINE_FRAMES)), 'pipeline publish');
   pipelineJobs.push(pipePub);
   await untilTrue(() => acks.acked >= PIPELINE_FRAMES, 'pipeline', status);
   const rssEnd = rss.sample();
   const cpuPipeline = cpu.percent();
+  gc.stop();
   const framesPerS = PIPELINE_FRAMES / ((acks.lastAckMs - pipePub.startMs) / 1000);
   const valuesPerS = framesPerS * CHANNELS_PER_FRAME;
   const p50 = acks.latency.percentile(50);
   const p99 = acks.latency.percentile(99);
   console.log(`pipeline: ${round(framesPerS, 0)} frames/s, ${round(valuesPerS, 0)} values/s, ratio to bare ${round(valuesPerS / bareValuesPerS, 3)}; latency p50 ${p50} ms p99 ${p99} ms (saturated: includes the backlog)`);
   console.log(`          rss start ${round(rssStart)} MB, middle ${round(rssMid)} MB, end ${round(rssEnd)} MB (boot ${round(rssBoot)} MB)`);
-  console.log(`          CPU, % of one core (2 on this machine): strainward ${cpuPipeline.self}, VictoriaMetrics ${cpuPipeline.victoriametrics}, Mosquitto ${cpuPipeline.mosquitto}, publisher ${cpuPipeline.publisher}`);
+  console.log(`          CPU, % of one core (2 on this machine): strainward ${cpuPipeline.self}, VictoriaMetrics ${cpuPipeline.victoriametrics}, Mosquitto ${cpuPipeline.mosquitto}, publisher ${cpuPipeline.publisher}; garbage collection ${round(gc.ms, 0)} ms in ${gc.count} pauses (${round(gc.ms / PIPELINE_FRAMES * 1000, 1)} us per scan)`);
 
   // Phase 3: steady ~10,000 values/s.
   const heapAfterSaturation = liveHeapMb();
@@ -189,7 +192,7 @@ async function main(): Promise<Record<string, number>> {
   return {
     frames_per_s: round(framesPerS, 0), values_per_s: round(valuesPerS, 0), bare_values_per_s: round(bareValuesPerS, 0),
     ratio: round(valuesPerS / bareValuesPerS, 3), p50_ms: p50, p99_ms: p99, peak_rss_mb: round(peakRss),
-    cpu_pct_strainward: cpuPipeline.self, cpu_pct_database: cpuPipeline.victoriametrics, cpu_pct_broker: cpuPipeline.mosquitto,
+    cpu_pct_strainward: cpuPipeline.self, gc_us_per_frame: round(gc.ms / PIPELINE_FRAMES * 1000, 1), cpu_pct_database: cpuPipeline.victoriametrics, cpu_pct_broker: cpuPipeline.mosquitto,
     db_alone_frames_per_s: round(alone.frames_per_s, 0), ratio_to_db_alone: round(framesPerS / alone.frames_per_s, 3),
     db_alone_ratio_to_bare: round((alone.frames_per_s * CHANNELS_PER_FRAME) / bareValuesPerS, 3),
     steady_values_per_s: round(steadyValuesPerS, 0), steady_p50_ms: steadyP50, steady_p99_ms: steadyP99,

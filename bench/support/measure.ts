@@ -86,3 +86,27 @@ export function round(x: number, digits = 1): number {
   const f = 10 ** digits;
   return Math.round(x * f) / f;
 }
+
+/**
+ * Time this process spent in garbage collection (ms, pauses of the main thread as V8 reports
+ * them), counted from construction until `stop()`.
+ */
+export class GcTimer {
+  ms = 0;
+  count = 0;
+  private readonly observer: import('node:perf_hooks').PerformanceObserver;
+
+  constructor(perfHooks: typeof import('node:perf_hooks')) {
+    this.observer = new perfHooks.PerformanceObserver((list) => {
+      for (const e of list.getEntries()) {
+        this.ms += e.duration;
+        this.count++;
+      }
+    });
+    this.observer.observe({ entryTypes: ['gc'] });
+  }
+
+  stop(): void {
+    this.observer.disconnect();
+  }
+}

@@ -58,7 +58,7 @@ describe('writeAndAck', () => {
     const errors: string[] = [];
     const out = await firstValueFrom(from([processed({ ack: () => { acked++; } }, 1), processed({ ack: () => { acked++; } }, 2)])
       .pipe(writeAndAck(failing, {}, 16, (err) => errors.push((err as Error).message)), toArray()));
-    expect(out).toHaveLength(2);
+    expect(out.map((w) => [w.timeMs, w.acknowledged])).toEqual([[1, false], [2, false]]);
     expect(acked).toBe(0);
     expect(errors).toEqual(['spool full', 'spool full']);
   });
@@ -99,7 +99,7 @@ describe('writeAndAck', () => {
     let completed = false;
     const out: number[] = [];
     from([1, 2, 3, 4].map((t) => processed({ ack: () => acked.push(t) }, t))).pipe(writeAndAck(sink, {}, 2))
-      .subscribe({ next: (p) => { if (p.kind === 'frame') out.push(p.frame.timeMs); }, complete: () => { completed = true; } });
+      .subscribe({ next: (w) => out.push(w.timeMs), complete: () => { completed = true; } });
     const tick = () => new Promise((r) => setTimeout(r, 0));
     expect(started).toEqual(['1', '2']);
     finish[1]();
@@ -124,7 +124,8 @@ describe('writeAndAck', () => {
     const n = 5_000;
     const out = await lastValueFrom(from(Array.from({ length: n }, (_, i) => processed({ ack: () => acked.push(i) }, i)))
       .pipe(writeAndAck(sink, {}, 3), toArray()));
-    expect(out).toHaveLength(n);
+    expect(out.map((w) => w.timeMs)).toEqual(Array.from({ length: n }, (_, i) => i));
+    expect(out.every((w) => w.acknowledged)).toBe(true);
     expect(acked).toEqual(Array.from({ length: n }, (_, i) => i));
   });
 });

@@ -16,6 +16,7 @@ import type { FrameOutput } from '../pipeline/process-frames.js';
 import { RETRY_FOREVER, writeAndAck } from '../pipeline/write-and-ack.js';
 import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
 import { alarmLookups } from './lookups.js';
+import { presenceMessage, presenceTopic, startPresence } from './presence.js';
 import { ensureParent, openPointSink } from './sinks.js';
 
 export interface LiveDeps {
@@ -51,12 +52,15 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file));
+  const statusTopic = presenceTopic(rc.presence.topic, structure.structureId, rc.mqtt.client_id);
+  const who = { processor: rc.mqtt.client_id, structure: structure.structureId, every_s: rc.presence.every_s };
   const connection = await connectMqtt({
     url: rc.mqtt.url, clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     username: rc.mqtt.username, password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
     subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
+    ...(statusTopic === null ? {} : { will: { topic: statusTopic, payload: presenceMessage('offline', who, deps.now()), retain: true } }),
   }, { now: deps.now, log: deps.log });
 
   const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
@@ -104,20 +108,28 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   });
   processed$.connect();
   inbound$.connect();
+  const status = () => ({
+    decode: { ...decodeCounts },
+    deadLetters: { ...deadLetters.counts },
+    frames: { ...processor.counts },
+    writeErrors,
+    database: influx?.status() ?? null,
+    lineFiles: lineFiles?.status() ?? null,
+    mqtt: connection.stats(),
+    alarms: alarmWiring?.counts() ?? null,
+  });
+  const presence = statusTopic === null ? null : startPresence(connection.publish, statusTopic, who, () => {
+    const db = influx?.status();
+    return {
+      frames: processor.counts.frames, results: processor.counts.results, rejected_messages: decodeCounts.rejected,
+      held_acks: connection.stats().heldAcks, database_reachable: db ? db.dbReachable : null, spool_fill_ratio: db ? db.spoolFillRatio : null,
+    };
+  }, deps.now, (err) => deps.log('presence_failed', { message: err instanceof Error ? err.message : String(err) }));
   const captureFlush = capture ? setInterval(() => { capture.flush().catch((e) => deps.log('capture_failed', { message: String(e) })); }, rc.capture!.flush_every_ms) : null;
 
   return {
     connection,
-    status: () => ({
-      decode: { ...decodeCounts },
-      deadLetters: { ...deadLetters.counts },
-      frames: { ...processor.counts },
-      writeErrors,
-      database: influx?.status() ?? null,
-      lineFiles: lineFiles?.status() ?? null,
-      mqtt: connection.stats(),
-      alarms: alarmWiring?.counts() ?? null,
-    }),
+    status,
     async stop() {
       if (captureFlush) clearInterval(captureFlush);
       stop$.next();
@@ -126,6 +138,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await sink.close();
       await capture?.close();
+      await presence?.stop(); // `stopped`, retained, before the DISCONNECT that keeps the will unsent
       await connection.close();
     },
   };

@@ -27,6 +27,15 @@ export const RuntimeConfigSchema = z.strictObject({
     /** Stop reading from the broker while this many messages wait to be acknowledged (bounded memory under overload). */
     max_held_acks: z.number().int().min(2).default(4096),
   }),
+  /**
+   * The processor's own status on the broker (retained): `online` every `every_s`, `stopped` on an
+   * orderly stop, `offline` as the last will when it vanishes. `{structure}` and `{client_id}` are
+   * replaced; empty topic: none of it (not advised: then nobody sees the processor go silent).
+   */
+  presence: z.strictObject({
+    topic: z.string().default('strainward/{structure}/processor/{client_id}'),
+    every_s: z.number().positive().default(10),
+  }).default({ topic: 'strainward/{structure}/processor/{client_id}', every_s: 10 }),
   /** What is written with every result, to the database or the files. */
   results: z.strictObject({
     /** Each element's mechanical strain (`el_<gauge>_micro`); a replay of the raw archive gives them later too. */

@@ -103,6 +103,7 @@ function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions
     reconnectOnConnackError: true,
     username: o.username,
     password: o.password,
+    ...(o.will ? { will: { topic: o.will.topic, payload: Buffer.from(o.will.payload), qos: 1 as const, retain: o.will.retain } } : {}),
   };
 }
 

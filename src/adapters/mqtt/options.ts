@@ -35,6 +35,11 @@ export const mqttConnectionOptionsSchema = z.strictObject({
   connectTimeout_ms: z.number().int().min(100).default(10_000),
   /** Stop reading from the broker while this many messages wait for their acknowledgement (resume at half). */
   maxHeldAcks: z.number().int().min(2).default(4096),
+  /**
+   * Last will: the broker publishes it (QoS 1) when this client goes without a DISCONNECT (process
+   * killed, machine or network gone), so others learn that the processor itself is silent.
+   */
+  will: z.strictObject({ topic: z.string().min(1), payload: z.string(), retain: z.boolean().default(true) }).optional(),
   /** Topic filters subscribed at QoS 1 after the first connection (mqtt.js resubscribes after a lost session). */
   subscriptions: z.array(z.string().min(1)).default([]),
 }).refine((o) => o.reconnectMax_ms >= o.reconnectInitial_ms, {

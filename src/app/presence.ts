@@ -1,0 +1,65 @@
+/**
+ * The processor's own presence on the broker. Silence from the processor is itself an alarm: when
+ * it is down nothing is computed and no alarm can be raised, so it says where it stands on a topic
+ * of its own, retained, for the control room and any watchdog to follow:
+ * - `online` with its counters, every `every_s` (a status older than two periods means it is stuck);
+ * - `offline`, published by the broker itself as the last will when the process vanishes without a
+ *   DISCONNECT (killed, machine or network gone);
+ * - `stopped` on an orderly stop.
+ */
+import type { Publish } from '../adapters/mqtt/connection.js';
+
+export type PresenceState = 'online' | 'offline' | 'stopped';
+
+/** The status message (JSON), documented in the README. */
+export interface PresenceMessage {
+  state: PresenceState;
+  processor: string;
+  structure: string;
+  /** Processor time of the message, ISO 8601 UTC; for `offline`, when the will was set (the connection time). */
+  at: string;
+  /** Seconds between `online` messages: a reader's staleness limit is twice this. */
+  every_s: number;
+  /** Counters since start (online and stopped only). */
+  frames?: number;
+  results?: number;
+  rejected_messages?: number;
+  held_acks?: number;
+  database_reachable?: boolean | null;
+  spool_fill_ratio?: number | null;
+}
+
+/** `{structure}` and `{client_id}` replaced; null when presence is switched off (empty pattern). */
+export function presenceTopic(pattern: string, structureId: string, clientId: string): string | null {
+  if (pattern === '') return null;
+  return pattern.replaceAll('{structure}', structureId).replaceAll('{client_id}', clientId);
+}
+
+/** Counters of the live job's status, in the presence message's names. */
+export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio'>;
+
+export interface Presence {
+  /** Publishes `stopped` (retained) and ends the heartbeat. */
+  stop(): Promise<void>;
+}
+
+export function presenceMessage(state: PresenceState, who: { processor: string; structure: string; every_s: number }, atMs: number, counters: PresenceCounters = {}): string {
+  const message: PresenceMessage = { state, ...who, at: new Date(atMs).toISOString(), ...counters };
+  return JSON.stringify(message);
+}
+
+/** Publishes `online` now and every `every_s`; a failed publish is reported, and the next one tries again. */
+export function startPresence(
+  publish: Publish, topic: string, who: { processor: string; structure: string; every_s: number },
+  counters: () => PresenceCounters, now: () => number, onError: (err: unknown) => void,
+): Presence {
+  const send = (state: PresenceState) => publish(topic, presenceMessage(state, who, now(), counters()), { qos: 1, retain: true }).catch(onError);
+  void send('online');
+  const timer = setInterval(() => { void send('online'); }, who.every_s * 1000);
+  return {
+    async stop() {
+      clearInterval(timer);
+      await send('stopped');
+    },
+  };
+}

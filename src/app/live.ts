@@ -16,6 +16,7 @@ import type { FrameOutput } from '../pipeline/process-frames.js';
 import { RETRY_FOREVER, writeAndAck } from '../pipeline/write-and-ack.js';
 import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
 import { alarmLookups } from './lookups.js';
+import { brokerAccess } from './broker-access.js';
 import { presenceMessage, presenceTopic, startPresence } from './presence.js';
 import { ensureParent, openPointSink } from './sinks.js';
 
@@ -55,8 +56,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const statusTopic = presenceTopic(rc.presence.topic, structure.structureId, rc.mqtt.client_id);
   const who = { processor: rc.mqtt.client_id, structure: structure.structureId, every_s: rc.presence.every_s };
   const connection = await connectMqtt({
-    url: rc.mqtt.url, clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
-    username: rc.mqtt.username, password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
+    ...brokerAccess(rc, baseDir), clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
     subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],

@@ -19,6 +19,14 @@ export const RuntimeConfigSchema = z.strictObject({
     fallback_to_v311: z.boolean().default(true),
     username: z.string().min(1).optional(),
     password_env: z.string().min(1).optional(),
+    /** With an `mqtts://` url: PEM files, relative to this file. The CA verifies the broker; a client certificate and key prove who we are. */
+    tls: z.strictObject({
+      ca_file: z.string().min(1).optional(),
+      cert_file: z.string().min(1).optional(),
+      key_file: z.string().min(1).optional(),
+      /** false accepts any broker certificate: for a bench only, never on a structure. */
+      reject_unauthorized: z.boolean().default(true),
+    }).refine((t) => (t.cert_file === undefined) === (t.key_file === undefined), 'cert_file and key_file go together').optional(),
     topic_pattern: z.string().default('strainward/{structure}/{logger}/scan'),
     keepalive_s: z.number().int().min(0).default(30),
     session_expiry_s: z.number().int().min(0).default(86_400),

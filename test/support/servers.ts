@@ -92,7 +92,7 @@ function stopChild(child: ChildProcess): Promise<void> {
 }
 
 export interface MosquittoServer {
-  /** `mqtt://127.0.0.1:<port>` */
+  /** `mqtt://127.0.0.1:<port>` (`mqtts://` with a TLS listener) */
   url: string;
   port: number;
   /** Process id (benchmarks read its CPU time). */
@@ -104,12 +104,17 @@ export interface MosquittoServer {
  * Starts Mosquitto on a free loopback port with its own mosquitto.conf in a temp dir (no persistence).
  * Anonymous clients are allowed unless a password file is given or `allowAnonymous` is false.
  */
-export async function startMosquitto(opts: { aclFile?: string; passwordFile?: string; allowAnonymous?: boolean } = {}): Promise<MosquittoServer> {
+export async function startMosquitto(opts: {
+  aclFile?: string; passwordFile?: string; allowAnonymous?: boolean;
+  /** A TLS listener (url `mqtts://`) with these PEM files, e.g. test/fixtures/tls. */
+  tls?: { caFile: string; certFile: string; keyFile: string };
+} = {}): Promise<MosquittoServer> {
   const dir = await mkdtemp(join(tmpdir(), 'sw-mosquitto-'));
   const port = await freePort();
   const allowAnonymous = opts.allowAnonymous ?? opts.passwordFile === undefined;
   const conf = [
     `listener ${port} ${LOOPBACK}`,
+    ...(opts.tls ? [`cafile ${opts.tls.caFile}`, `certfile ${opts.tls.certFile}`, `keyfile ${opts.tls.keyFile}`] : []),
     `allow_anonymous ${allowAnonymous ? 'true' : 'false'}`,
     'persistence false',
     'log_dest stdout',
@@ -131,7 +136,7 @@ export async function startMosquitto(opts: { aclFile?: string; passwordFile?: st
     throw err;
   });
   return {
-    url: `mqtt://${LOOPBACK}:${port}`,
+    url: `${opts.tls ? 'mqtts' : 'mqtt'}://${LOOPBACK}:${port}`,
     port,
     pid: child.pid!,
     async stop() {

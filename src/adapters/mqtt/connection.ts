@@ -77,17 +77,20 @@ export async function connectMqtt(input: MqttConnectionOptionsInput, deps: MqttD
   }
 }
 
-function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions {
-  const tls = o.tls
-    ? {
-        ca: o.tls.caFile ? readFileSync(o.tls.caFile) : undefined,
-        cert: o.tls.certFile ? readFileSync(o.tls.certFile) : undefined,
-        key: o.tls.keyFile ? readFileSync(o.tls.keyFile) : undefined,
-        rejectUnauthorized: o.tls.rejectUnauthorized,
-      }
-    : {};
+/** mqtt.js TLS options from PEM file paths (read now); none without `tls`. */
+export function tlsClientOptions(tls: MqttConnectionOptions['tls']): Pick<IClientOptions, 'ca' | 'cert' | 'key' | 'rejectUnauthorized'> {
+  if (!tls) return {};
   return {
-    ...tls,
+    ca: tls.caFile ? readFileSync(tls.caFile) : undefined,
+    cert: tls.certFile ? readFileSync(tls.certFile) : undefined,
+    key: tls.keyFile ? readFileSync(tls.keyFile) : undefined,
+    rejectUnauthorized: tls.rejectUnauthorized,
+  };
+}
+
+function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions {
+  return {
+    ...tlsClientOptions(o.tls),
     manualConnect: true,
     clientId: o.clientId,
     protocolVersion: version,

@@ -5,6 +5,8 @@ import { AckCommandSchema, publishAck } from '../../alarms/index.js';
 import { ConfigError } from '../../config/compile.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { parseOptions } from '../options.js';
+import { tlsClientOptions } from '../../adapters/mqtt/connection.js';
+import { brokerAccess } from '../../app/broker-access.js';
 
 /** Options of `strainward ack`; the alarm, user and reason obey the command payload's own limits. */
 export const AckOptionsSchema = z.strictObject({
@@ -36,12 +38,14 @@ export class AckPublishError extends Error {
  */
 export async function sendAck(raw: unknown, env: NodeJS.ProcessEnv = process.env): Promise<{ topic: string; payload: string }> {
   const o = parseOptions(AckOptionsSchema, raw);
-  const { runtime: rc, structure } = await loadRuntimeFile(o.config);
+  const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
   if (structure.alarms === null) throw new ConfigError(o.config, [{ path: 'alarms', reason: 'the structure file has no alarms section: there is nothing to acknowledge' }]);
   const passwordEnv = o.mqttPasswordEnv ?? rc.mqtt.password_env;
   let client: mqtt.MqttClient;
   try {
+    const access = brokerAccess(rc, baseDir, env);
     client = await mqtt.connectAsync(rc.mqtt.url, {
+      ...tlsClientOptions(access.tls === undefined ? undefined : { rejectUnauthorized: true, ...access.tls }),
       clientId: `${rc.mqtt.client_id}-ack-${process.pid}-${Math.floor(Math.random() * 1e9).toString(36)}`,
       protocolVersion: rc.mqtt.protocol_version, clean: true, reconnectPeriod: 0, connectTimeout: o.timeoutMs,
       username: o.mqttUsername ?? rc.mqtt.username, password: passwordEnv ? env[passwordEnv] : undefined,

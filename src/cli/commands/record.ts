@@ -7,6 +7,7 @@ import { connectMqtt } from '../../adapters/mqtt/connection.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { compileTopicPattern, subscriptionFilter } from '../../ingest/topic.js';
 import { parseOptions } from '../options.js';
+import { brokerAccess } from '../../app/broker-access.js';
 
 export const RecordOptionsSchema = z.strictObject({
   config: z.string().min(1),
@@ -36,9 +37,8 @@ export function recordCommand(): Command {
       });
       const pattern = compileTopicPattern(rc.mqtt.topic_pattern);
       const connection = await connectMqtt({
-        url: rc.mqtt.url, clientId: `${rc.mqtt.client_id}-recorder`, protocolVersion: rc.mqtt.protocol_version,
-        fallbackToV311: rc.mqtt.fallback_to_v311, username: rc.mqtt.username,
-        password: rc.mqtt.password_env ? process.env[rc.mqtt.password_env] : undefined,
+        ...brokerAccess(rc, baseDir), clientId: `${rc.mqtt.client_id}-recorder`, protocolVersion: rc.mqtt.protocol_version,
+        fallbackToV311: rc.mqtt.fallback_to_v311,
         subscriptions: [subscriptionFilter(pattern, structure.structureId)],
       }, { now: Date.now, log: (event, detail) => log.info({ event, ...detail }) });
       let pendingAcks: Array<() => void> = [];

@@ -4,13 +4,14 @@
  * last will `offline` when the process is killed without a goodbye, `stopped` after SIGTERM.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { mkdtemp, writeFile } from 'node:fs/promises';
+import { mkdtemp } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { PresenceMessage } from '../../src/app/presence.js';
 import { startMosquitto } from '../support/servers.js';
+import { writeRuntimeFile } from '../support/runtime-file.js';
 
 const TOPIC = 'strainward/brannock-mere/processor/test-presence';
 
@@ -21,16 +22,12 @@ describe('processor presence', () => {
 
   async function startRun(): Promise<ChildProcess> {
     const dir = await mkdtemp(join(tmpdir(), 'sw-presence-'));
-    const runtime = join(dir, 'run.yaml');
-    await writeFile(runtime, [
-      'schema_version: 1',
-      `structure: ${resolve('config/brannock-mere.yaml')}`,
-      `mqtt: { url: "${broker.url}", client_id: test-presence }`,
+    const runtime = await writeRuntimeFile(dir, broker.url, 'test-presence', [
       'presence: { every_s: 0.3 }',
       `line_protocol: { dir: ${join(dir, 'lp')} }`,
       `dead_letters: { file: ${join(dir, 'dl.ndjson')} }`,
       `alarms: { state_file: ${join(dir, 'alarm-state.json')}, log_file: ${join(dir, 'alarms.ndjson')} }`,
-    ].join('\n'));
+    ]);
     return spawn(process.execPath, ['bin/strainward.mjs', 'run', '-c', runtime, '--status-every', '0'], { stdio: ['ignore', 'ignore', 'ignore'] });
   }
 

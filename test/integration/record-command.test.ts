@@ -3,13 +3,14 @@
  * loopback port): every message of the structure's topics lands in the capture, refused ones too.
  */
 import { spawn } from 'node:child_process';
-import { mkdtemp, writeFile } from 'node:fs/promises';
+import { mkdtemp } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readCapture } from '../../src/adapters/capture/capture-reader.js';
 import { startMosquitto } from '../support/servers.js';
+import { writeRuntimeFile } from '../support/runtime-file.js';
 
 describe('strainward record', () => {
   let broker: Awaited<ReturnType<typeof startMosquitto>>;
@@ -18,13 +19,7 @@ describe('strainward record', () => {
 
   it('captures every message, bytes as received, until stopped', async () => {
     const dir = await mkdtemp(join(tmpdir(), 'sw-record-'));
-    const runtime = join(dir, 'run.yaml');
-    await writeFile(runtime, [
-      'schema_version: 1',
-      `structure: ${resolve('config/brannock-mere.yaml')}`,
-      `mqtt: { url: "${broker.url}", client_id: test-recorder }`,
-      `capture: { dir: ${join(dir, 'capture')} }`,
-    ].join('\n'));
+    const runtime = await writeRuntimeFile(dir, broker.url, 'test-recorder', [`capture: { dir: ${join(dir, 'capture')} }`]);
     const child = spawn(process.execPath, ['bin/strainward.mjs', 'record', '-c', runtime, '--flush-ms', '100'], { stdio: ['ignore', 'ignore', 'pipe'] });
     let log = '';
     child.stderr.on('data', (c) => { log += c; });

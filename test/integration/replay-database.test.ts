@@ -2,9 +2,9 @@
  * Replay into the database under its own run tag, against a real VictoriaMetrics started here on a
  * free loopback port: live data (no run tag) is never overwritten.
  */
-import { mkdtemp, writeFile } from 'node:fs/promises';
+import { mkdtemp } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { main } from '../../src/cli/main.js';
 import { loadStructureFile } from '../../src/config/load.js';
@@ -12,6 +12,7 @@ import { defaultScenario } from '../../simulators/default-scenario.js';
 import { captureSink } from '../../simulators/outputs.js';
 import { createSimulation } from '../../simulators/run.js';
 import { startVictoriaMetrics } from '../support/servers.js';
+import { writeRuntimeFile } from '../support/runtime-file.js';
 
 describe('replay into the database', () => {
   let vm: Awaited<ReturnType<typeof startVictoriaMetrics>>;
@@ -26,13 +27,9 @@ describe('replay into the database', () => {
     let results = 0;
     for (const scan of sim.scans()) { await sink.send(scan); results += scan.truth.filter((t) => t.group === 'flange-south-mid1').length; }
     await sink.close();
-    const runtime = join(dir, 'run.yaml');
-    await writeFile(runtime, [
-      'schema_version: 1',
-      `structure: ${resolve('config/brannock-mere.yaml')}`,
-      'mqtt: { url: "mqtt://127.0.0.1:1", client_id: unused }',
+    const runtime = await writeRuntimeFile(dir, 'mqtt://127.0.0.1:1', 'unused', [
       `database: { url: "${vm.url}", org: o, bucket: b, spool: { dir: ${join(dir, 'spool')} } }`,
-    ].join('\n'));
+    ]);
     const quiet = vi.spyOn(process.stderr, 'write').mockImplementation(() => true);
     try {
       for (const tag of ['before-fix', 'after-fix']) {

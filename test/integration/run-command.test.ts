@@ -3,15 +3,16 @@
  * port), with no database configured: results go to line-protocol files (the embedded default).
  */
 import { spawn } from 'node:child_process';
-import { mkdtemp, readdir, readFile, writeFile } from 'node:fs/promises';
+import { mkdtemp, readdir, readFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decodeLines } from '../../src/adapters/lineproto/decode.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { startMosquitto } from '../support/servers.js';
+import { writeRuntimeFile } from '../support/runtime-file.js';
 
 describe('strainward run', () => {
   let broker: Awaited<ReturnType<typeof startMosquitto>>;
@@ -20,15 +21,11 @@ describe('strainward run', () => {
 
   it('turns published scans into result lines on disk and stops cleanly on SIGTERM', async () => {
     const dir = await mkdtemp(join(tmpdir(), 'sw-run-'));
-    const runtime = join(dir, 'run.yaml');
-    await writeFile(runtime, [
-      'schema_version: 1',
-      `structure: ${resolve('config/brannock-mere.yaml')}`,
-      `mqtt: { url: "${broker.url}", client_id: test-run-command }`,
+    const runtime = await writeRuntimeFile(dir, broker.url, 'test-run-command', [
       `line_protocol: { dir: ${join(dir, 'lp')} }`,
       `dead_letters: { file: ${join(dir, 'dl.ndjson')} }`,
       `alarms: { state_file: ${join(dir, 'alarm-state.json')}, log_file: ${join(dir, 'alarms.ndjson')} }`,
-    ].join('\n'));
+    ]);
     const child = spawn(process.execPath, ['bin/strainward.mjs', 'run', '-c', runtime, '--status-every', '0'], { stdio: ['ignore', 'ignore', 'pipe'] });
     let log = '';
     child.stderr.on('data', (c) => { log += c; });

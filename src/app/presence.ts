@@ -7,7 +7,9 @@
  *   DISCONNECT (killed, machine or network gone);
  * - `stopped` on an orderly stop.
  */
+import { z } from 'zod';
 import type { Publish } from '../adapters/mqtt/connection.js';
+import { problemsFromZod } from '../validation/issues.js';
 
 export type PresenceState = 'online' | 'offline' | 'stopped';
 
@@ -62,4 +64,55 @@ export function startPresence(
       await send('stopped');
     },
   };
+}
+
+/** A presence message read back from the broker (a boundary: anyone may publish there). */
+export const PresenceMessageSchema = z.looseObject({
+  state: z.enum(['online', 'offline', 'stopped']),
+  processor: z.string().min(1),
+  structure: z.string().min(1),
+  at: z.iso.datetime(),
+  every_s: z.number().positive(),
+});
+
+/** One processor's standing, as `strainward status` reports it. */
+export interface PresenceAssessment {
+  topic: string;
+  processor: string;
+  state: PresenceState | 'unreadable';
+  /** Seconds since the message's `at`; NaN when unreadable. */
+  age_s: number;
+  healthy: boolean;
+  /** Why not healthy, in words; empty when healthy. */
+  reason: string;
+  /** The message itself when readable. */
+  message: Record<string, unknown> | null;
+}
+
+/**
+ * Judges the retained presence messages at `nowMs`. Healthy = `online` and younger than twice its
+ * own period; `offline` (the last will), `stopped`, a stale `online` (stuck process, or a clock
+ * gone wrong) and an unreadable payload are not. Pure.
+ */
+export function assessPresence(messages: ReadonlyArray<{ topic: string; payload: Uint8Array }>, nowMs: number): PresenceAssessment[] {
+  return messages.map(({ topic, payload }) => {
+    let json: unknown;
+    try {
+      json = JSON.parse(new TextDecoder().decode(payload));
+    } catch {
+      json = undefined;
+    }
+    const r = PresenceMessageSchema.safeParse(json);
+    if (!r.success) {
+      const why = json === undefined ? 'not JSON' : problemsFromZod(r.error).map((p) => `${p.path}: ${p.reason}`).join('; ');
+      return { topic, processor: topic.split('/').pop() ?? topic, state: 'unreadable', age_s: Number.NaN, healthy: false, reason: `unreadable status (${why})`, message: null };
+    }
+    const m = r.data;
+    const age_s = (nowMs - Date.parse(m.at)) / 1000;
+    const stale = m.state === 'online' && age_s > 2 * m.every_s;
+    const reason = m.state === 'offline' ? 'offline: the broker reported the connection lost (last will)'
+      : m.state === 'stopped' ? 'stopped'
+        : stale ? `no status for ${age_s.toFixed(1)} s (every ${m.every_s} s expected)` : '';
+    return { topic, processor: m.processor, state: m.state, age_s, healthy: reason === '', reason, message: m };
+  });
 }

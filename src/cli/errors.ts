@@ -1,8 +1,19 @@
 import { ConfigError } from '../config/compile.js';
 import { MissingReadingError, UnknownGroupError } from '../results/calculate.js';
 
-/** Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid configuration. */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3 } as const;
+/**
+ * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
+ * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent).
+ */
+export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4 } as const;
+
+/** `strainward status` found no healthy processor status, or an unhealthy one. */
+export class SilentProcessorError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'SilentProcessorError';
+  }
+}
 
 /** Named error for bad command-line options (after zod validation). */
 export class UsageError extends Error {
@@ -14,6 +25,7 @@ export class UsageError extends Error {
 
 export function exitCodeFor(err: unknown): number {
   if (err instanceof ConfigError) return EXIT.config;
+  if (err instanceof SilentProcessorError) return EXIT.silent;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError) return EXIT.usage;
   return EXIT.runtime;
 }

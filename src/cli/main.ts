@@ -4,6 +4,7 @@ import { calcCommand } from './commands/calc.js';
 import { recordCommand } from './commands/record.js';
 import { replayCommand } from './commands/replay.js';
 import { runCommand } from './commands/run.js';
+import { statusCommand } from './commands/status.js';
 import { exitCodeFor } from './errors.js';
 
 /** Composition root of the command line: commands are wired here; errors become exit codes here only. */
@@ -15,7 +16,8 @@ export async function main(argv: string[]): Promise<number> {
     .addCommand(runCommand())
     .addCommand(ackCommand())
     .addCommand(recordCommand())
-    .addCommand(replayCommand());
+    .addCommand(replayCommand())
+    .addCommand(statusCommand());
   try {
     await program.parseAsync(argv);
     return 0;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { presenceMessage, presenceTopic, startPresence } from '../../src/app/presence.js';
+import { assessPresence, presenceMessage, presenceTopic, startPresence } from '../../src/app/presence.js';
 
 const who = { processor: 'sw-1', structure: 'brannock-mere', every_s: 0.05 };
 
@@ -32,5 +32,30 @@ describe('processor presence', () => {
     expect(sent[0]).toEqual({ state: 'online', frames: 0, retain: true, qos: 1 });
     expect(sent.at(-1)!.state).toBe('stopped');
     expect(sent.slice(0, -1).every((m) => m.state === 'online' && m.retain === true)).toBe(true);
+  });
+});
+
+describe('assessPresence: is the processor computing?', () => {
+  const NOW = Date.UTC(2026, 11, 2, 1, 0, 0);
+  const msg = (state: string, ageS: number, extra: Record<string, unknown> = {}) => ({
+    topic: 'strainward/brannock-mere/processor/sw-1',
+    payload: new TextEncoder().encode(JSON.stringify({ state, processor: 'sw-1', structure: 'brannock-mere', at: new Date(NOW - ageS * 1000).toISOString(), every_s: 10, ...extra })),
+  });
+  const one = (m: { topic: string; payload: Uint8Array }) => assessPresence([m], NOW)[0];
+
+  it('online and younger than twice its period is healthy; older is stale', () => {
+    expect(one(msg('online', 19.9))).toMatchObject({ state: 'online', healthy: true, reason: '' });
+    expect(one(msg('online', 19.9)).age_s).toBeCloseTo(19.9, 9);
+    expect(one(msg('online', 20.1))).toMatchObject({ healthy: false, reason: 'no status for 20.1 s (every 10 s expected)' });
+  });
+
+  it('offline (the last will) and stopped are not healthy, whatever their age', () => {
+    expect(one(msg('offline', 0))).toMatchObject({ healthy: false, reason: 'offline: the broker reported the connection lost (last will)' });
+    expect(one(msg('stopped', 0))).toMatchObject({ healthy: false, reason: 'stopped' });
+  });
+
+  it('an unreadable status is not healthy, and says why', () => {
+    expect(one({ topic: 't/x', payload: new TextEncoder().encode('{oops') })).toMatchObject({ processor: 'x', state: 'unreadable', healthy: false, reason: 'unreadable status (not JSON)' });
+    expect(one(msg('sleeping', 0)).reason).toMatch(/^unreadable status \(state: /);
   });
 });

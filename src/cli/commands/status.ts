@@ -1,0 +1,70 @@
+import { Command } from 'commander';
+import mqtt from 'mqtt';
+import { z } from 'zod';
+import { tlsClientOptions } from '../../adapters/mqtt/connection.js';
+import { brokerAccess } from '../../app/broker-access.js';
+import { assessPresence, presenceTopic, type PresenceAssessment } from '../../app/presence.js';
+import { loadRuntimeFile } from '../../config/load-runtime.js';
+import { SilentProcessorError, UsageError } from '../errors.js';
+import { parseOptions } from '../options.js';
+
+export const StatusOptionsSchema = z.strictObject({
+  config: z.string().min(1),
+  /** How long to collect the broker's retained status messages. */
+  waitMs: z.coerce.number().int().positive().default(2_000),
+  json: z.boolean().default(false),
+});
+
+/**
+ * Reads the retained presence messages of the structure's processors from the broker, prints each
+ * one's standing, and fails (exit 4) when none is there or any is offline, stopped, stale or
+ * unreadable: a check for a watchdog or the control room, since a silent processor raises no alarm.
+ */
+export async function checkStatus(raw: unknown, out: (line: string) => void, env: NodeJS.ProcessEnv = process.env): Promise<PresenceAssessment[]> {
+  const o = parseOptions(StatusOptionsSchema, raw);
+  const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
+  const filter = presenceTopic(rc.presence.topic, structure.structureId, '+');
+  if (filter === null) throw new UsageError(`${o.config}: presence.topic is empty, so processors publish no status to check`);
+  const access = brokerAccess(rc, baseDir, env);
+  const client = await mqtt.connectAsync(access.url, {
+    ...tlsClientOptions(access.tls === undefined ? undefined : { rejectUnauthorized: true, ...access.tls }),
+    clientId: `${rc.mqtt.client_id}-status-${process.pid}-${Math.floor(Math.random() * 1e9).toString(36)}`,
+    protocolVersion: rc.mqtt.protocol_version, clean: true, reconnectPeriod: 0, connectTimeout: o.waitMs * 5,
+    username: access.username, password: access.password,
+  });
+  const received = new Map<string, Uint8Array>(); // the latest per topic
+  try {
+    client.on('message', (topic, payload) => { received.set(topic, new Uint8Array(payload)); });
+    await client.subscribeAsync(filter, { qos: 1 });
+    await new Promise((r) => setTimeout(r, o.waitMs));
+  } finally {
+    await client.endAsync().catch(() => undefined);
+  }
+  const assessed = assessPresence([...received].map(([topic, payload]) => ({ topic, payload })), Date.now())
+    .sort((a, b) => a.processor.localeCompare(b.processor));
+  if (o.json) out(JSON.stringify({ structure: structure.structureId, processors: assessed.map(({ message: _m, ...a }) => ({ ...a, age_s: Number.isFinite(a.age_s) ? a.age_s : null })) }));
+  else {
+    for (const a of assessed) {
+      const age = Number.isFinite(a.age_s) ? `${a.age_s.toFixed(1)} s ago` : '';
+      out(`${a.processor}  ${a.state}  ${age}${a.healthy ? '' : `  NOT HEALTHY: ${a.reason}`}`);
+    }
+    if (assessed.length === 0) out(`no processor status on ${filter}`);
+  }
+  const bad = assessed.filter((a) => !a.healthy);
+  if (assessed.length === 0 || bad.length > 0) {
+    throw new SilentProcessorError(assessed.length === 0
+      ? `no processor of ${structure.structureId} has published a status on ${filter}: nothing may be computing`
+      : bad.map((a) => `${a.processor}: ${a.reason}`).join('; '));
+  }
+  return assessed;
+}
+
+/** `strainward status`: is a processor computing this structure right now? */
+export function statusCommand(): Command {
+  return new Command('status')
+    .description('check on the broker that the structure\'s processors are online and recent (exit 4 when not)')
+    .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON)')
+    .option('--wait-ms <ms>', 'how long to collect the retained status messages', '2000')
+    .option('--json', 'one JSON object instead of lines')
+    .action(async (raw: unknown) => { await checkStatus(raw, (line) => process.stdout.write(`${line}\n`)); });
+}

@@ -11,7 +11,7 @@ import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { PresenceMessage } from '../../src/app/presence.js';
 import { startMosquitto } from '../support/servers.js';
-import { writeRuntimeFile } from '../support/runtime-file.js';
+import { filesUnder, writeRuntimeFile } from '../support/runtime-file.js';
 
 const TOPIC = 'strainward/brannock-mere/processor/test-presence';
 
@@ -24,9 +24,7 @@ describe('processor presence', () => {
     const dir = await mkdtemp(join(tmpdir(), 'sw-presence-'));
     const runtime = await writeRuntimeFile(dir, broker.url, 'test-presence', [
       'presence: { every_s: 0.3 }',
-      `line_protocol: { dir: ${join(dir, 'lp')} }`,
-      `dead_letters: { file: ${join(dir, 'dl.ndjson')} }`,
-      `alarms: { state_file: ${join(dir, 'alarm-state.json')}, log_file: ${join(dir, 'alarms.ndjson')} }`,
+      ...filesUnder(dir),
     ]);
     return spawn(process.execPath, ['bin/strainward.mjs', 'run', '-c', runtime, '--status-every', '0'], { stdio: ['ignore', 'ignore', 'ignore'] });
   }

@@ -12,7 +12,7 @@ import { decodeLines } from '../../src/adapters/lineproto/decode.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { startMosquitto } from '../support/servers.js';
-import { writeRuntimeFile } from '../support/runtime-file.js';
+import { filesUnder, writeRuntimeFile } from '../support/runtime-file.js';
 
 describe('strainward run', () => {
   let broker: Awaited<ReturnType<typeof startMosquitto>>;
@@ -22,9 +22,7 @@ describe('strainward run', () => {
   it('turns published scans into result lines on disk and stops cleanly on SIGTERM', async () => {
     const dir = await mkdtemp(join(tmpdir(), 'sw-run-'));
     const runtime = await writeRuntimeFile(dir, broker.url, 'test-run-command', [
-      `line_protocol: { dir: ${join(dir, 'lp')} }`,
-      `dead_letters: { file: ${join(dir, 'dl.ndjson')} }`,
-      `alarms: { state_file: ${join(dir, 'alarm-state.json')}, log_file: ${join(dir, 'alarms.ndjson')} }`,
+      ...filesUnder(dir),
     ]);
     const child = spawn(process.execPath, ['bin/strainward.mjs', 'run', '-c', runtime, '--status-every', '0'], { stdio: ['ignore', 'ignore', 'pipe'] });
     let log = '';

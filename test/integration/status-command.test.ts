@@ -10,7 +10,7 @@ import { startLive } from '../../src/app/live.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
 import { main } from '../../src/cli/main.js';
 import { startMosquitto } from '../support/servers.js';
-import { writeRuntimeFile } from '../support/runtime-file.js';
+import { filesUnder, writeRuntimeFile } from '../support/runtime-file.js';
 
 /** Runs the command, returning its exit code and what it printed on stdout and stderr. */
 async function status(runtime: string): Promise<{ code: number; out: string; err: string }> {
@@ -44,9 +44,7 @@ describe('strainward status', () => {
     const dir = await mkdtemp(join(tmpdir(), 'sw-status-'));
     const runtime = await writeRuntimeFile(dir, broker.url, 'test-status-live', [
       'presence: { every_s: 0.2 }',
-      `line_protocol: { dir: ${join(dir, 'lp')} }`,
-      `dead_letters: { file: ${join(dir, 'dl.ndjson')} }`,
-      `alarms: { state_file: ${join(dir, 'alarm-state.json')}, log_file: ${join(dir, 'alarms.ndjson')} }`,
+      ...filesUnder(dir),
     ]);
     const live = await startLive(await loadRuntimeFile(runtime), { now: Date.now, log: () => {} });
     let ok: Awaited<ReturnType<typeof status>>;

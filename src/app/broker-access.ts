@@ -1,14 +1,13 @@
 import { resolve } from 'node:path';
-import type { MqttConnectionOptionsInput } from '../adapters/mqtt/options.js';
+import type { BrokerAccess } from '../adapters/mqtt/one-shot-client.js';
 import type { RuntimeConfig } from '../config/runtime-schema.js';
 
 /**
- * How every strainward client reaches the broker (live job, recorder, acknowledgement command):
+ * How every strainward client reaches the broker (live job, recorder, ack and status commands):
  * address, user, password from the environment variable the configuration names (never from the
  * file itself), TLS files resolved against the runtime file's folder.
  */
-export function brokerAccess(rc: RuntimeConfig, baseDir: string, env: NodeJS.ProcessEnv = process.env):
-  Pick<MqttConnectionOptionsInput, 'url' | 'username' | 'password' | 'tls'> {
+export function brokerAccess(rc: RuntimeConfig, baseDir: string, env: NodeJS.ProcessEnv = process.env): BrokerAccess {
   const t = rc.mqtt.tls;
   const file = (f: string | undefined) => (f === undefined ? undefined : resolve(baseDir, f));
   return {

@@ -1,11 +1,11 @@
 import { Command } from 'commander';
-import mqtt from 'mqtt';
+import type { MqttClient } from 'mqtt';
 import { z } from 'zod';
 import { AckCommandSchema, publishAck } from '../../alarms/index.js';
 import { ConfigError } from '../../config/compile.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { parseOptions } from '../options.js';
-import { tlsClientOptions } from '../../adapters/mqtt/connection.js';
+import { connectOneShot } from '../../adapters/mqtt/one-shot-client.js';
 import { brokerAccess } from '../../app/broker-access.js';
 
 /** Options of `strainward ack`; the alarm, user and reason obey the command payload's own limits. */
@@ -41,15 +41,11 @@ export async function sendAck(raw: unknown, env: NodeJS.ProcessEnv = process.env
   const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
   if (structure.alarms === null) throw new ConfigError(o.config, [{ path: 'alarms', reason: 'the structure file has no alarms section: there is nothing to acknowledge' }]);
   const passwordEnv = o.mqttPasswordEnv ?? rc.mqtt.password_env;
-  let client: mqtt.MqttClient;
+  let client: MqttClient;
   try {
-    const access = brokerAccess(rc, baseDir, env);
-    client = await mqtt.connectAsync(rc.mqtt.url, {
-      ...tlsClientOptions(access.tls === undefined ? undefined : { rejectUnauthorized: true, ...access.tls }),
-      clientId: `${rc.mqtt.client_id}-ack-${process.pid}-${Math.floor(Math.random() * 1e9).toString(36)}`,
-      protocolVersion: rc.mqtt.protocol_version, clean: true, reconnectPeriod: 0, connectTimeout: o.timeoutMs,
-      username: o.mqttUsername ?? rc.mqtt.username, password: passwordEnv ? env[passwordEnv] : undefined,
-    });
+    // The acknowledgement role may log in as a user of its own.
+    const access = { ...brokerAccess(rc, baseDir, env), username: o.mqttUsername ?? rc.mqtt.username, password: passwordEnv ? env[passwordEnv] : undefined };
+    client = await connectOneShot(access, { clientIdPrefix: `${rc.mqtt.client_id}-ack`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.timeoutMs });
   } catch (err) {
     throw new AckPublishError(`cannot connect to ${rc.mqtt.url}: ${err instanceof Error ? err.message : String(err)}`, err);
   }

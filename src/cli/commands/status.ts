@@ -1,7 +1,6 @@
 import { Command } from 'commander';
-import mqtt from 'mqtt';
 import { z } from 'zod';
-import { tlsClientOptions } from '../../adapters/mqtt/connection.js';
+import { connectOneShot } from '../../adapters/mqtt/one-shot-client.js';
 import { brokerAccess } from '../../app/broker-access.js';
 import { assessPresence, presenceTopic, type PresenceAssessment } from '../../app/presence.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
@@ -25,12 +24,8 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
   const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
   const filter = presenceTopic(rc.presence.topic, structure.structureId, '+');
   if (filter === null) throw new UsageError(`${o.config}: presence.topic is empty, so processors publish no status to check`);
-  const access = brokerAccess(rc, baseDir, env);
-  const client = await mqtt.connectAsync(access.url, {
-    ...tlsClientOptions(access.tls === undefined ? undefined : { rejectUnauthorized: true, ...access.tls }),
-    clientId: `${rc.mqtt.client_id}-status-${process.pid}-${Math.floor(Math.random() * 1e9).toString(36)}`,
-    protocolVersion: rc.mqtt.protocol_version, clean: true, reconnectPeriod: 0, connectTimeout: o.waitMs * 5,
-    username: access.username, password: access.password,
+  const client = await connectOneShot(brokerAccess(rc, baseDir, env), {
+    clientIdPrefix: `${rc.mqtt.client_id}-status`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.waitMs * 5,
   });
   const received = new Map<string, Uint8Array>(); // the latest per topic
   try {

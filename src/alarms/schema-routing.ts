@@ -1,14 +1,33 @@
 import { z } from 'zod';
 
+/** Header authentication for a webhook: `<header>: <prefix><secret>`. */
+export const WebhookAuthSchema = z
+  .strictObject({
+    header: z.string().regex(/^[A-Za-z0-9-]+$/, 'a header name: letters, digits and hyphens').default('authorization'),
+    prefix: z.string().default('Bearer '),
+    /** Environment variable holding the secret. */
+    secret_env: z.string().min(1).optional(),
+    /** File holding the secret (first line; mode 600), relative to the runtime file. */
+    secret_file: z.string().min(1).optional(),
+  })
+  .refine((a) => (a.secret_env === undefined) !== (a.secret_file === undefined), {
+    message: 'give exactly one of secret_env and secret_file (the secret never sits in the structure file)',
+  });
+
 /** Where a recipient hears: an MQTT topic (may contain {structure}, {zone}, {level}), a webhook, the log. */
 export const RecipientChannelSchema = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('mqtt'), topic: z.string().min(1) }),
   z.strictObject({
     kind: z.literal('webhook'),
-    url: z.url({ protocol: /^https?$/ }),
+    // fetch cannot send user info in a URL, and it would sit in the structure file: refuse it.
+    url: z.url({ protocol: /^https?$/ }).refine((u) => !/^[a-z]+:\/\/[^/?#]*@/i.test(u), {
+      message: 'no user name or password in a webhook URL: use auth (header, secret_env or secret_file)',
+    }),
     timeout_ms: z.number().int().positive().default(5000),
     max_attempts: z.number().int().min(1).max(10).default(4),
     backoff_ms: z.number().int().nonnegative().default(500),
+    /** A header carrying a secret on every POST; the secret from the environment or a file, never from here. */
+    auth: WebhookAuthSchema.optional(),
   }),
   z.strictObject({ kind: z.literal('log') }),
 ]);
@@ -52,5 +71,6 @@ export const FlappingSchema = z.strictObject({
 });
 
 export type RecipientChannel = z.infer<typeof RecipientChannelSchema>;
+export type WebhookChannel = Extract<RecipientChannel, { kind: 'webhook' }>;
 export type Recipient = z.infer<typeof RecipientSchema>;
 export type Route = z.infer<typeof RouteSchema>;

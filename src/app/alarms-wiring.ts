@@ -4,6 +4,7 @@ import {
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
 import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, TransitionKind } from '../alarms/types.js';
+import { redactUrl } from '../adapters/secret.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 
@@ -120,7 +121,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
   const sink = deps.sink === undefined ? undefined : guardedSink(deps.sink, deps.pointTags, (err) => { c.errors.points++; report('alarm_points_failed', err); });
   const publish: Publish = deps.publish ?? (async (topic, body) => { recorded.push({ channel: 'mqtt', target: topic, body }); });
   const recordingFetch = (async (url: string | URL | Request, init?: RequestInit) => {
-    recorded.push({ channel: 'webhook', target: String(url), body: String(init?.body ?? '') });
+    recorded.push({ channel: 'webhook', target: redactUrl(String(url)), body: String(init?.body ?? '') });
     return new Response(null, { status: 204 });
   }) as typeof globalThis.fetch;
   const dispatcher = createDispatcher(deps.cfg, {

@@ -19,6 +19,7 @@ import { alarmLookups } from './lookups.js';
 import { brokerAccess } from './broker-access.js';
 import { presenceMessage, presenceTopic, startPresence } from './presence.js';
 import { ensureParent, openPointSink } from './sinks.js';
+import { loadWebhookAuth } from './webhook-auth.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -53,6 +54,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file));
+  // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
+  const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   const statusTopic = presenceTopic(rc.presence.topic, structure.structureId, rc.mqtt.client_id);
   const who = { processor: rc.mqtt.client_id, structure: structure.structureId, every_s: rc.presence.every_s };
   const connection = await connectMqtt({
@@ -97,6 +100,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     }),
   ), {
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: connection.publish, ...alarmFiles,
+    webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
   });
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.

@@ -1,3 +1,4 @@
+import { redactUrl } from '../../adapters/secret.js';
 import type { AlarmsConfig } from '../schema.js';
 import type { AckRefusal, AlarmTransition } from '../types.js';
 import type { AlarmLog } from './alarm-log.js';
@@ -32,7 +33,7 @@ export function createDispatcher(cfg: AlarmsConfig, adapters: DispatchAdapters):
     const startedMs = adapters.now();
     const isLog = d.channel.kind === 'log';
     return {
-      recipientId: d.recipientId, channel: d.channel.kind, target: d.topic ?? (d.channel.kind === 'webhook' ? d.channel.url : 'log'),
+      recipientId: d.recipientId, channel: d.channel.kind, target: d.topic ?? (d.channel.kind === 'webhook' ? redactUrl(d.channel.url) : 'log'),
       alarmId: d.transition.alarm.id, transition: d.transition.kind,
       // A `log` recipient reads the alarm log: the transition line written there is its delivery.
       status: isLog && adapters.log !== undefined ? 'delivered' : 'failed', attemptCount: isLog ? 1 : 0,

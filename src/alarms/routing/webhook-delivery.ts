@@ -1,3 +1,5 @@
+import { redact, redactUrl } from '../../adapters/secret.js';
+import type { WebhookChannel } from '../schema-routing.js';
 import type { Delivery } from './select.js';
 import type { DeliveryAttempt, DeliveryRecord } from './delivery-record.js';
 import { alarmMessage } from './format.js';
@@ -6,6 +8,8 @@ export interface WebhookDeps {
   fetch?: typeof globalThis.fetch;
   now: () => number;
   sleep?: (ms: number) => Promise<void>;
+  /** The authentication header of a channel with `auth` (secret already loaded), or undefined. */
+  authHeader?: (channel: WebhookChannel) => { name: string; value: string } | undefined;
 }
 
 /** Worth another try: no response, a server error, or "too many requests". */
@@ -16,7 +20,8 @@ function retryable(status: number | null): boolean {
 /**
  * Webhook delivery: JSON POST with a per-attempt timeout (AbortSignal.timeout), retried with
  * exponential backoff (before attempt n: backoff_ms x 2^(n-2)) on network errors, timeouts, 408, 429 and 5xx.
- * Returns the record of every attempt; never throws.
+ * Returns the record of every attempt; never throws. The record's target is the URL with its
+ * credentials and secret-looking query values redacted, and no error text carries the auth secret.
  */
 export function createWebhookDelivery(deps: WebhookDeps): (d: Delivery) => Promise<DeliveryRecord> {
   const doFetch = deps.fetch ?? globalThis.fetch;
@@ -25,6 +30,12 @@ export function createWebhookDelivery(deps: WebhookDeps): (d: Delivery) => Promi
     if (d.channel.kind !== 'webhook') throw new TypeError('webhook delivery given a non-webhook channel');
     const ch = d.channel;
     const body = JSON.stringify(alarmMessage(d.transition));
+    const auth = ch.auth === undefined ? undefined : deps.authHeader?.(ch);
+    if (ch.auth !== undefined && auth === undefined) throw new TypeError(`webhook ${redactUrl(ch.url)}: auth configured but its secret was not loaded`);
+    const headers: Record<string, string> = { 'content-type': 'application/json', 'x-strainward-alarm-id': d.transition.alarm.id };
+    if (auth !== undefined) headers[auth.name] = auth.value;
+    const target = redactUrl(ch.url);
+    const clean = (text: string): string => redact(text.split(ch.url).join(target), auth?.value);
     const attempts: DeliveryAttempt[] = [];
     const start = deps.now();
     let delivered = false;
@@ -36,7 +47,7 @@ export function createWebhookDelivery(deps: WebhookDeps): (d: Delivery) => Promi
       try {
         const res = await doFetch(ch.url, {
           method: 'POST',
-          headers: { 'content-type': 'application/json', 'x-strainward-alarm-id': d.transition.alarm.id },
+          headers,
           body,
           signal: AbortSignal.timeout(ch.timeout_ms),
         });
@@ -44,14 +55,14 @@ export function createWebhookDelivery(deps: WebhookDeps): (d: Delivery) => Promi
         await res.arrayBuffer().catch(() => undefined); // drain so the connection is reused
         if (!res.ok) error = `HTTP ${res.status}`;
       } catch (e) {
-        error = e instanceof Error ? `${e.name}: ${e.message}` : String(e);
+        error = clean(e instanceof Error ? `${e.name}: ${e.message}` : String(e));
       }
       attempts.push({ attempt: n, httpStatus: status, error, latencyMs: deps.now() - t0 });
       delivered = error === null;
       if (!delivered && !retryable(status)) break;
     }
     return {
-      recipientId: d.recipientId, channel: 'webhook', target: ch.url, alarmId: d.transition.alarm.id,
+      recipientId: d.recipientId, channel: 'webhook', target, alarmId: d.transition.alarm.id,
       transition: d.transition.kind, status: delivered ? 'delivered' : 'failed', attemptCount: attempts.length,
       attempts, latencyMs: deps.now() - start, startedMs: start,
     };

@@ -15,6 +15,11 @@ export interface SpoolOptions {
   fsync?: boolean;
   /** Called each time the fill ratio rises across `highWaterRatio`. */
   onHighWater?: (status: SpoolStatus) => void;
+  /**
+   * Called when appends start failing (full disk, I/O error, or the limit under `block`: `reason`
+   * says which) and again, with null, on the first append that succeeds after that.
+   */
+  onWritable?: (failure: string | null, status: SpoolStatus) => void;
 }
 
 export interface SpoolStatus {
@@ -28,6 +33,10 @@ export interface SpoolStatus {
   aboveHighWater: boolean;
   /** Points deleted by the `drop_oldest` policy since open. */
   droppedPoints: number;
+  /** Free bytes on the spool's file system for this process (fs.statfs); null when it cannot be read. */
+  diskFreeBytes: number | null;
+  /** Why the latest append failed, while appends fail; null when the last one succeeded. */
+  writeFailure: string | null;
 }
 
 /** A sealed segment handed to a reader: its id (for `remove`) and its lines in order. */

@@ -11,14 +11,22 @@
  * - `drop_oldest`: whole oldest segments are deleted until the new lines fit, counted in
  *   `droppedPoints` (lossy, but the newest data is kept).
  * A torn last line (crash mid-append) has no newline and is ignored on read.
+ *
+ * An append is all or nothing: when the disk refuses it (full, I/O error) the segment is cut back
+ * to its last whole line and the append rejects with SpoolWriteError, so a later append never
+ * lands behind a partial line. Under `drop_oldest` a full disk counts as the limit (oldest
+ * segments go first). Segment files are created 0600: they hold the structure's data.
  */
+import { statfsSync } from 'node:fs';
 import { mkdir, open, readdir, readFile, stat, unlink, type FileHandle } from 'node:fs/promises';
 import { join } from 'node:path';
 import { completeLines, nameOf, segmentIdOf } from './segment-files.js';
 import { SpoolFullError } from './spool-full-error.js';
+import { fsErrorCode, SpoolWriteError } from './spool-write-error.js';
 import type { SpoolFullPolicy, SpoolOptions, SpoolSegment, SpoolStatus } from './spool-types.js';
 
 export { SpoolFullError } from './spool-full-error.js';
+export { SpoolWriteError } from './spool-write-error.js';
 
 export type { SpoolFullPolicy, SpoolOptions, SpoolSegment, SpoolStatus } from './spool-types.js';
 
@@ -38,6 +46,7 @@ export class Spool {
   /** Never reused within a process, so `has(id)` cannot confuse a dropped segment with a new one. */
   private nextId = 1;
   private aboveHighWater = false;
+  private writeFailure: string | null = null;
   private readonly segmentBytes: number;
   private readonly highWaterRatio: number;
   private readonly policy: SpoolFullPolicy;
@@ -52,7 +61,7 @@ export class Spool {
   /** Opens (creating) the directory and indexes the segments a previous process left, oldest first. */
   static async open(opts: SpoolOptions): Promise<Spool> {
     const spool = new Spool(opts);
-    await mkdir(opts.dir, { recursive: true });
+    await mkdir(opts.dir, { recursive: true, mode: 0o700 });
     const ids = (await readdir(opts.dir)).map(segmentIdOf).filter((id) => id !== null).sort((a, b) => a - b);
     for (const id of ids) {
       const path = join(opts.dir, nameOf(id));
@@ -90,30 +99,29 @@ export class Spool {
       points: this.segments.reduce((n, s) => n + s.lines, 0),
       aboveHighWater: this.aboveHighWater,
       droppedPoints: this.droppedPoints,
+      diskFreeBytes: this.diskFreeBytes(),
+      writeFailure: this.writeFailure,
     };
   }
 
   /**
    * Appends texts of complete lines (each one or more lines, newline-separated, `lineCount` lines
-   * in all) behind everything held. Rejects with SpoolFullError at the limit under `block`.
+   * in all) behind everything held, all or nothing. Rejects with SpoolFullError at the limit under
+   * `block`, and with SpoolWriteError when the disk refuses the write (nothing of it is kept).
    */
   append(texts: readonly string[], lineCount = texts.length): Promise<void> {
     return this.serial(async () => {
       if (texts.length === 0) return;
       const text = texts.join('\n') + '\n';
       const bytes = Buffer.byteLength(text);
-      await this.makeRoom(bytes, lineCount);
-      let last = this.segments[this.segments.length - 1];
-      if (last === undefined || last.sealed || (last.bytes > 0 && last.bytes + bytes > this.segmentBytes)) {
-        await this.seal();
-        last = { id: this.nextId++, bytes: 0, lines: 0, sealed: false };
-        this.active = await open(join(this.opts.dir, nameOf(last.id)), 'a');
-        this.segments.push(last);
+      try {
+        await this.makeRoom(bytes, lineCount);
+        await this.writeWhole(text, bytes, lineCount);
+      } catch (err) {
+        this.noteWritable(err instanceof Error ? err.message : String(err));
+        throw err;
       }
-      await this.active!.appendFile(text, 'utf8');
-      if (this.opts.fsync ?? true) await this.active!.sync();
-      last.bytes += bytes;
-      last.lines += lineCount;
+      this.noteWritable(null);
       this.checkHighWater();
     });
   }
@@ -124,7 +132,9 @@ export class Spool {
       const oldest = this.segments[0];
       if (oldest === undefined) return null;
       if (!oldest.sealed) await this.seal();
-      return { id: oldest.id, lines: completeLines(await readFile(join(this.opts.dir, nameOf(oldest.id)), 'utf8')) };
+      // Only the bytes known whole: a tail a failed cut-back left behind is not read.
+      const file = await readFile(join(this.opts.dir, nameOf(oldest.id)));
+      return { id: oldest.id, lines: completeLines(file.subarray(0, oldest.bytes).toString('utf8')) };
     });
   }
 
@@ -148,16 +158,86 @@ export class Spool {
   private async makeRoom(bytes: number, lines: number): Promise<void> {
     if (this.totalBytes() + bytes <= this.opts.limitBytes) return;
     if (this.policy === 'drop_oldest' && bytes <= this.opts.limitBytes) {
-      while (this.totalBytes() + bytes > this.opts.limitBytes) {
-        const oldest = this.segments[0];
-        if (!oldest.sealed) await this.seal();
-        await unlink(join(this.opts.dir, nameOf(oldest.id)));
-        this.segments.shift();
-        this.droppedPoints += oldest.lines;
-      }
+      while (this.totalBytes() + bytes > this.opts.limitBytes) await this.dropOldest();
       return;
     }
     throw new SpoolFullError(lines, bytes, this.totalBytes(), this.opts.limitBytes);
+  }
+
+  /** Deletes the oldest segment and counts its points as dropped. */
+  private async dropOldest(): Promise<void> {
+    const oldest = this.segments[0];
+    if (!oldest.sealed) await this.seal();
+    await unlink(join(this.opts.dir, nameOf(oldest.id)));
+    this.segments.shift();
+    this.droppedPoints += oldest.lines;
+  }
+
+  /** Appends `text` to the active segment (a new one when due); on a refused write nothing of it stays. */
+  private async writeWhole(text: string, bytes: number, lineCount: number): Promise<void> {
+    for (;;) {
+      try {
+        await this.tryAppend(text, bytes, lineCount);
+        return;
+      } catch (err) {
+        const code = fsErrorCode(err);
+        // drop_oldest: a full disk is a limit too, and the newest data is the one kept.
+        if (code === 'ENOSPC' && this.policy === 'drop_oldest' && this.totalBytes() > 0) {
+          await this.dropOldest();
+          continue;
+        }
+        throw new SpoolWriteError(lineCount, bytes, code, err);
+      }
+    }
+  }
+
+  private async tryAppend(text: string, bytes: number, lineCount: number): Promise<void> {
+    let last = this.segments[this.segments.length - 1];
+    if (last === undefined || last.sealed || (last.bytes > 0 && last.bytes + bytes > this.segmentBytes)) {
+      await this.seal();
+      const handle = await open(join(this.opts.dir, nameOf(this.nextId)), 'a', 0o600);
+      last = { id: this.nextId++, bytes: 0, lines: 0, sealed: false };
+      this.active = handle;
+      this.segments.push(last);
+    }
+    const handle = this.active!;
+    try {
+      await handle.appendFile(text, 'utf8');
+      if (this.opts.fsync ?? true) await handle.sync();
+    } catch (err) {
+      await this.cutBack(handle, last);
+      throw err;
+    }
+    last.bytes += bytes;
+    last.lines += lineCount;
+  }
+
+  /**
+   * Cuts a failed append off the segment (a partial line would fuse with the next append). If
+   * even that fails, the segment is sealed: later appends go to a new file, and reads stop at
+   * its last whole line (`bytes`).
+   */
+  private async cutBack(handle: FileHandle, segment: SegmentInfo): Promise<void> {
+    try {
+      await handle.truncate(segment.bytes);
+    } catch {
+      await this.seal();
+    }
+  }
+
+  private noteWritable(failure: string | null): void {
+    const changed = (failure === null) !== (this.writeFailure === null);
+    this.writeFailure = failure;
+    if (changed) this.opts.onWritable?.(failure, this.status());
+  }
+
+  private diskFreeBytes(): number | null {
+    try {
+      const s = statfsSync(this.opts.dir);
+      return s.bavail * s.bsize;
+    } catch {
+      return null;
+    }
   }
 
   private async seal(): Promise<void> {

@@ -52,7 +52,7 @@ const t0 = performance.now();
 const html = renderReport({
   title: 'Brannock Mere Crossing – simulated compressed day', structureId: structure.structureId, generatedAtMs: start + duration * 1000,
   run: { label: 'noisy', results: a.results }, comparison: { label: 'noise-free', results: b.results }, alarms,
-  limits: { von_mises_MPa: [{ level: 'warning', upper: 80 }, { level: 'alarm', upper: 150 }], residual_rms_micro: [{ level: 'limit', upper: 20 }] },
+  limits: { von_mises_MPa: [{ level: 'warning', upper: 80 }, { level: 'alarm', upper: 150 }], fit_std_error_micro: [{ level: 'limit', upper: 20 }] },
 });
 const renderMs = performance.now() - t0;
 await writeFile(outPath, html);

@@ -104,7 +104,7 @@ export function compileGroup(
     zzCompliance: Float64Array.of(s6[ZZ * 6 + XX], s6[ZZ * 6 + YY], s6[ZZ * 6 + XY]),
     hostAlpha,
     zeroTempC: zero,
-    residualLimitMicro: group.residual_limit_micro,
+    fitStdErrorLimitMicro: group.fit_std_error_limit_micro,
     yieldMPa: material.yieldMPa,
     tensileMPa: material.tensileMPa,
     compressiveMPa: material.compressiveMPa,

@@ -3,6 +3,14 @@ import { IdSchema } from './material-schema.js';
 
 const vector3 = z.tuple([z.number(), z.number(), z.number()]);
 
+/**
+ * A key that was renamed: refused with a message naming its successor (a strict object would only
+ * say "unknown key"). Optional `never`, so the parsed type carries nothing.
+ */
+export function renamedTo(newKey: string, why: string) {
+  return z.never({ error: `renamed to "${newKey}": ${why}` }).optional();
+}
+
 const PlaneElement = z.strictObject({
   gauge: IdSchema,
   /** Counter-clockwise from the group's x axis, degrees. */
@@ -38,8 +46,13 @@ const common = {
   location: z.string().min(1),
   temperature_sensors: z.array(IdSchema).default([]),
   temperature: TemperatureJoinSchema.default({ mode: 'last', max_age_s: 900, max_wait_s: 0, withhold_when_missing: false }),
-  /** Flag `residual_high` above this least-squares residual (redundant groups), microstrain. */
-  residual_limit_micro: z.number().positive().default(30),
+  /**
+   * Flag `residual_high` when the fit's standard error, sqrt(sum r^2 / (elements - unknowns)) =
+   * `fit_std_error_micro`, exceeds this (redundant groups), microstrain.
+   */
+  fit_std_error_limit_micro: z.number().positive().default(30),
+  /** Renamed: the old name did not say which residual measure it compares. */
+  residual_limit_micro: renamedTo('fit_std_error_limit_micro', 'it compares the standard error of the fit (fit_std_error_micro), not the residual RMS'),
 };
 
 export const PlaneRosetteSchema = z.strictObject({

@@ -4,7 +4,7 @@ import {
   type ElementModel, type GroupModel, type GroupOutput,
 } from './group-model.js';
 import { principal2, principal3, tresca3, vonMises2, vonMises6 } from './principal.js';
-import { applyPseudoInverse, pseudoInverseFor, residualRms } from './reduction.js';
+import { applyPseudoInverse, countBits, pseudoInverseFor, residualSumOfSquares } from './reduction.js';
 import { horner, vibratingWireDigits } from './thermal.js';
 
 // Quality bits, in the order of QUALITY_FLAGS (src/model/quality.ts; a test keeps them in step).
@@ -126,9 +126,17 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
   }
   const x = applyPseudoInverse(p, mech, m, g.n, out.work.x);
   // Without redundancy the fit is exact: skip the residual (NaN says "not applicable").
-  const rms = m > g.n ? residualRms(g.reduction.obs, mech, x, m, g.n, missing, out.elementResidualMicro) : Number.NaN;
-  if (rms > g.residualLimitMicro) flags |= BIT_RESIDUAL_HIGH;
-  out.residualRmsMicro = rms;
+  const used = m - countBits(missing);
+  if (used > g.n) {
+    const sum = residualSumOfSquares(g.reduction.obs, mech, x, m, g.n, missing, out.elementResidualMicro);
+    out.residualRmsMicro = Math.sqrt(sum / used);
+    // The standard error estimates one element's noise whatever the redundancy: the limit compares it.
+    out.fitStdErrorMicro = Math.sqrt(sum / (used - g.n));
+  } else {
+    out.residualRmsMicro = out.fitStdErrorMicro = Number.NaN;
+    out.elementResidualMicro.fill(0);
+  }
+  if (out.fitStdErrorMicro > g.fitStdErrorLimitMicro) flags |= BIT_RESIDUAL_HIGH;
   for (let i = 0; i < m; i++) if ((missing & (1 << i)) !== 0) mech[i] = Number.NaN;
   out.flags = flags;
 
@@ -158,7 +166,8 @@ function finishPlane(g: GroupModel, x: Float64Array, out: GroupOutput): void {
   d[0] = d[1] = d[2] = Number.NaN;
   out.vonMisesMPa = vonMises2(sx, sy, txy);
   out.trescaMPa = tresca3(s1, s2, 0); // the free surface's zero normal stress is the third principal
-  out.maxShearMPa = 0.5 * out.trescaMPa;
+  out.maxShearInPlaneMPa = 0.5 * (s1 - s2);
+  out.maxShearAbsMPa = 0.5 * out.trescaMPa;
   out.axialStrainMicro = out.axialStressMPa = Number.NaN;
   ratios(g, out, Math.max(s1, 0), Math.max(-s2, 0));
 }
@@ -181,7 +190,8 @@ function finishSolid(g: GroupModel, x: Float64Array, out: GroupOutput): void {
   out.principalAngleDeg = Number.NaN;
   out.vonMisesMPa = vonMises6(s);
   out.trescaMPa = pr[0] - pr[2];
-  out.maxShearMPa = 0.5 * out.trescaMPa;
+  out.maxShearInPlaneMPa = Number.NaN; // a solid cluster has no privileged plane
+  out.maxShearAbsMPa = 0.5 * out.trescaMPa;
   out.axialStrainMicro = out.axialStressMPa = Number.NaN;
   ratios(g, out, Math.max(pr[0], 0), Math.max(-pr[2], 0));
 }
@@ -198,7 +208,8 @@ function finishUniaxial(g: GroupModel, x: Float64Array, out: GroupOutput): void 
   out.principalDir1.fill(Number.NaN);
   out.principalAngleDeg = Number.NaN;
   out.vonMisesMPa = out.trescaMPa = Math.abs(sigma);
-  out.maxShearMPa = 0.5 * Math.abs(sigma);
+  // Uniaxial stress on the surface: principal values sigma and 0 in the plane, 0 out of it.
+  out.maxShearInPlaneMPa = out.maxShearAbsMPa = 0.5 * Math.abs(sigma);
   ratios(g, out, Math.max(sigma, 0), Math.max(-sigma, 0));
 }
 
@@ -213,7 +224,7 @@ function clearResults(out: GroupOutput): void {
   out.stressMPa.fill(Number.NaN);
   out.principalMPa.fill(Number.NaN);
   out.principalDir1.fill(Number.NaN);
-  out.principalAngleDeg = out.vonMisesMPa = out.trescaMPa = out.maxShearMPa = Number.NaN;
-  out.axialStrainMicro = out.axialStressMPa = out.residualRmsMicro = Number.NaN;
+  out.principalAngleDeg = out.vonMisesMPa = out.trescaMPa = out.maxShearInPlaneMPa = out.maxShearAbsMPa = Number.NaN;
+  out.axialStrainMicro = out.axialStressMPa = out.residualRmsMicro = out.fitStdErrorMicro = Number.NaN;
   out.ratioVonMisesToYield = out.ratioTensionToTensile = out.ratioCompressionToCompressive = Number.NaN;
 }

@@ -66,7 +66,8 @@ export interface GroupModel {
   /** Host free expansion per degC on the normal components present (2 plane, 3 solid, 1 uniaxial), 1/degC. */
   hostAlpha: Float64Array;
   zeroTempC: number;
-  residualLimitMicro: number;
+  /** residual_high when the fit's standard error exceeds this, microstrain. */
+  fitStdErrorLimitMicro: number;
   yieldMPa: number;
   tensileMPa: number;
   compressiveMPa: number;
@@ -92,8 +93,14 @@ export interface GroupOutput {
   principalDir1: Float64Array;
   vonMisesMPa: number;
   trescaMPa: number;
-  maxShearMPa: number;
+  /** Plane groups (and single gauges): (s1 - s2) / 2 of the in-plane principal stresses, MPa. */
+  maxShearInPlaneMPa: number;
+  /** Largest shear on any plane, Tresca / 2 = (s_max - s_min) / 2 of all three principals (0 out of plane for surface groups), MPa. */
+  maxShearAbsMPa: number;
+  /** Root mean square of the used elements' residuals, sqrt(sum r^2 / used), microstrain. */
   residualRmsMicro: number;
+  /** Standard error of the fit, sqrt(sum r^2 / (used - unknowns)): an estimate of one element's noise, microstrain. */
+  fitStdErrorMicro: number;
   ratioVonMisesToYield: number;
   ratioTensionToTensile: number;
   ratioCompressionToCompressive: number;
@@ -119,8 +126,10 @@ export function createGroupOutput(m: number): GroupOutput {
     principalDir1: new Float64Array(3),
     vonMisesMPa: Number.NaN,
     trescaMPa: Number.NaN,
-    maxShearMPa: Number.NaN,
+    maxShearInPlaneMPa: Number.NaN,
+    maxShearAbsMPa: Number.NaN,
     residualRmsMicro: Number.NaN,
+    fitStdErrorMicro: Number.NaN,
     ratioVonMisesToYield: Number.NaN,
     ratioTensionToTensile: Number.NaN,
     ratioCompressionToCompressive: Number.NaN,

@@ -78,15 +78,15 @@ export function applyPseudoInverse(p: Float64Array, e: Float64Array, m: number, 
 }
 
 /**
- * Root-mean-square least-squares residual over the used elements, sqrt(sum r_i^2 / (used - n)),
- * microstrain when e is. Writes each element's residual into r (0 for missing ones). Returns NaN
- * when the group has no redundancy (used <= n): the fit is then exact and says nothing.
+ * Sum of the squared least-squares residuals over the used elements (microstrain^2 when e is in
+ * microstrain). Writes each element's residual e_i - (A x)_i into r (0 for missing ones). The
+ * caller turns it into the residual RMS, sqrt(sum / used), and the standard error of the fit,
+ * sqrt(sum / (used - n)) (both in `residualMeasures`).
  */
-export function residualRms(
+export function residualSumOfSquares(
   obs: Float64Array, e: Float64Array, x: Float64Array, m: number, n: number, missingMask: number, r: Float64Array,
 ): number {
   let sum = 0;
-  let used = 0;
   for (let i = 0; i < m; i++) {
     if ((missingMask & (1 << i)) !== 0) {
       r[i] = 0;
@@ -97,9 +97,15 @@ export function residualRms(
     const ri = e[i] - fit;
     r[i] = ri;
     sum += ri * ri;
-    used++;
   }
-  return used > n ? Math.sqrt(sum / (used - n)) : Number.NaN;
+  return sum;
+}
+
+/** Number of set bits of a 32-bit mask (missing elements). */
+export function countBits(mask: number): number {
+  let v = mask - ((mask >>> 1) & 0x55555555);
+  v = (v & 0x33333333) + ((v >>> 2) & 0x33333333);
+  return (((v + (v >>> 4)) & 0x0f0f0f0f) * 0x01010101) >>> 24;
 }
 
 /**

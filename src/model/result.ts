@@ -17,10 +17,16 @@ export const RESULT_QUANTITIES = [
   'principal_angle_deg',
   /** Solid groups: unit direction of principal 1 in group axes (sign: largest component positive). */
   'principal_1_dir_x', 'principal_1_dir_y', 'principal_1_dir_z',
-  'max_shear_MPa', 'von_mises_MPa', 'tresca_MPa',
+  /** Plane groups and single gauges: (principal_1 - principal_2) / 2, the largest shear in the gauged plane. */
+  'max_shear_in_plane_MPa',
+  /** Largest shear on any plane: (s_max - s_min) / 2 over all three principals, = tresca_MPa / 2 (surface groups: out-of-plane principal 0). */
+  'max_shear_abs_MPa',
+  'von_mises_MPa', 'tresca_MPa',
   'ratio_von_mises_to_yield', 'ratio_tension_to_tensile_strength', 'ratio_compression_to_compressive_strength',
-  /** Redundant groups: sqrt(sum of squared element residuals / (elements - unknowns)), microstrain. */
+  /** Redundant groups: root mean square of the element residuals, sqrt(sum r^2 / elements used), microstrain. */
   'residual_rms_micro',
+  /** Redundant groups: standard error of the fit, sqrt(sum r^2 / (elements used - unknowns)), microstrain; residual_high compares it. */
+  'fit_std_error_micro',
   'temperature_degC',
   'temperature_age_s',
 ] as const;

@@ -61,7 +61,8 @@ export function groupSection(groupId: string, results: readonly GroupResult[], c
     out.push(chart('Principal direction (angle from x to principal 1)', 'degrees', [], [series('principal_angle_deg', 0, masked, false, 'principal_angle', 180)]));
     out.push(`<p class="meta">Angle drawn where the in-plane maximum shear stress is at least ${floor.toFixed(2)} MPa.</p>`);
   }
-  if (has(results, 'residual_rms_micro')) out.push(chart('Least-squares residual (redundant group)', 'microstrain', ['residual_rms_micro']));
+  const residualQs = (['residual_rms_micro', 'fit_std_error_micro'] as ResultQuantity[]).filter((q) => has(results, q));
+  if (residualQs.length) out.push(chart('Least-squares residual (redundant group): RMS, and the fit standard error the limit compares', 'microstrain', residualQs));
   if (gaps.length) {
     out.push(`<p class="gaps">Data gaps (missing data is itself an alarm): ${gaps.map((g) =>
       `${esc(isoTime(g.fromMs))} – ${esc(isoTime(g.toMs))} (${((g.toMs - g.fromMs) / 1000).toFixed(1)} s)`).join('; ')}</p>`);

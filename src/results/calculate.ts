@@ -20,8 +20,10 @@ export interface CalculationReport {
   principal_1_direction: Array<number | null> | null;
   von_mises_MPa: number | null;
   tresca_MPa: number | null;
-  max_shear_MPa: number | null;
+  max_shear_in_plane_MPa: number | null;
+  max_shear_abs_MPa: number | null;
   residual_rms_micro: number | null;
+  fit_std_error_micro: number | null;
   ratios: { von_mises_to_yield: number | null; tension_to_tensile_strength: number | null; compression_to_compressive_strength: number | null };
   flags: number;
 }
@@ -81,8 +83,10 @@ export function calculate(
     principal_1_direction: solid ? Array.from(out.principalDir1, num) : null,
     von_mises_MPa: num(out.vonMisesMPa),
     tresca_MPa: num(out.trescaMPa),
-    max_shear_MPa: num(out.maxShearMPa),
+    max_shear_in_plane_MPa: num(out.maxShearInPlaneMPa),
+    max_shear_abs_MPa: num(out.maxShearAbsMPa),
     residual_rms_micro: num(out.residualRmsMicro),
+    fit_std_error_micro: num(out.fitStdErrorMicro),
     ratios: {
       von_mises_to_yield: num(out.ratioVonMisesToYield),
       tension_to_tensile_strength: num(out.ratioTensionToTensile),

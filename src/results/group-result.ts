@@ -39,13 +39,15 @@ export function toGroupResult(
   put(values, 'principal_1_dir_x', out.principalDir1[0]);
   put(values, 'principal_1_dir_y', out.principalDir1[1]);
   put(values, 'principal_1_dir_z', out.principalDir1[2]);
-  put(values, 'max_shear_MPa', out.maxShearMPa);
+  put(values, 'max_shear_in_plane_MPa', out.maxShearInPlaneMPa);
+  put(values, 'max_shear_abs_MPa', out.maxShearAbsMPa);
   put(values, 'von_mises_MPa', out.vonMisesMPa);
   put(values, 'tresca_MPa', out.trescaMPa);
   put(values, 'ratio_von_mises_to_yield', out.ratioVonMisesToYield);
   put(values, 'ratio_tension_to_tensile_strength', out.ratioTensionToTensile);
   put(values, 'ratio_compression_to_compressive_strength', out.ratioCompressionToCompressive);
   put(values, 'residual_rms_micro', out.residualRmsMicro);
+  put(values, 'fit_std_error_micro', out.fitStdErrorMicro);
   put(values, 'temperature_degC', out.temperatureC);
   put(values, 'temperature_age_s', temperatureAgeS);
   const elementStrainMicro: Record<string, number> = {};

@@ -30,8 +30,11 @@ export function renderCalculation(r: CalculationReport): string {
   out.push(`principal stresses (MPa): ${r.principal_MPa.filter((v) => v !== null).map((v) => f(v)).join(', ') || '-'}`);
   if (r.principal_angle_deg !== null) out.push(`principal angle (deg, from x to principal 1, counter-clockwise): ${f(r.principal_angle_deg, 2)}`);
   if (r.principal_1_direction) out.push(`principal 1 direction (x, y, z): ${r.principal_1_direction.map((v) => f(v, 4)).join(', ')}`);
-  out.push(`von Mises (MPa): ${f(r.von_mises_MPa)}   Tresca (MPa): ${f(r.tresca_MPa)}   max shear (MPa): ${f(r.max_shear_MPa)}`);
-  out.push(`residual rms (ue): ${r.residual_rms_micro === null ? '- (no redundancy)' : f(r.residual_rms_micro, 2)}`);
+  out.push(`von Mises (MPa): ${f(r.von_mises_MPa)}   Tresca (MPa): ${f(r.tresca_MPa)}`);
+  out.push(`max shear in plane (MPa): ${f(r.max_shear_in_plane_MPa)}   max shear on any plane (MPa): ${f(r.max_shear_abs_MPa)}`);
+  out.push(r.residual_rms_micro === null
+    ? 'residual: - (no redundancy)'
+    : `residual rms (ue): ${f(r.residual_rms_micro, 2)}   fit standard error (ue, compared with the limit): ${f(r.fit_std_error_micro, 2)}`);
   out.push(`ratios: von Mises / yield ${f(r.ratios.von_mises_to_yield, 4)}, tension / tensile strength ${f(r.ratios.tension_to_tensile_strength, 4)}, compression / compressive strength ${f(r.ratios.compression_to_compressive_strength, 4)}`);
   const flags = flagsFromBits(r.flags);
   out.push(`quality: ${flags.length === 0 ? 'good' : flags.join(', ')}`);

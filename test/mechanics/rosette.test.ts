@@ -89,10 +89,12 @@ describe('redundant rosettes', () => {
     const readings = angles.map((a) => exact(600, -150, 420, a));
     const full = evaluate(angles, readings);
     expect(full.residualRmsMicro).toBeLessThan(1e-9);
+    expect(full.fitStdErrorMicro).toBeLessThan(1e-9);
     const dropped = evaluate(angles, [readings[0], Number.NaN, readings[2], readings[3]]);
     expect(dropped.flags & 0b100).toBe(0b100); // element_missing
     expect(dropped.strainMicro[5]).toBeCloseTo(420, 9);
     expect(Number.isNaN(dropped.residualRmsMicro)).toBe(true); // 3 left for 3 unknowns: no redundancy
+    expect(Number.isNaN(dropped.fitStdErrorMicro)).toBe(true);
   });
 
   it('reports the residual of an inconsistent reading and flags it above the limit', () => {
@@ -101,10 +103,20 @@ describe('redundant rosettes', () => {
     readings[1] += 100; // one gauge off by 100 microstrain
     const out = evaluate(angles, readings);
     // Least squares with one degree of freedom: the residual vector is the offset projected on the
-    // null space of A^T; for this geometry its norm is 100 / 2 = 50 microstrain (common practice:
-    // hat-matrix leverage 3/4 for each element of a 4-gauge 45-degree rosette).
-    expect(out.residualRmsMicro).toBeCloseTo(50, 9);
-    expect(out.flags & 0b10000).toBe(0b10000); // residual_high (default limit 30)
+    // null space of A^T, spanned by u = (1, -1, 1, -1) / 2 for 0/45/90/135 (common practice: linear
+    // least squares; each element has hat-matrix leverage 3/4). So r = (100 e2 . u) u: every element's
+    // residual is 25 in magnitude, the residual norm 50.
+    Array.from(out.elementResidualMicro).forEach((r, i) => expect(r).toBeCloseTo(i % 2 === 0 ? -25 : 25, 9));
+    // RMS = sqrt(4 * 25^2 / 4) = 25; standard error of the fit = sqrt(4 * 25^2 / (4 - 3)) = 50.
+    expect(out.residualRmsMicro).toBeCloseTo(25, 9);
+    expect(out.fitStdErrorMicro).toBeCloseTo(50, 9);
+    expect(out.flags & 0b10000).toBe(0b10000); // residual_high: the standard error 50 > default limit 30
+
+    // The limit compares the standard error, not the RMS: a limit of 40 sits between the two (25 < 40 < 50).
+    const s = compileOrThrow({ ...planeRosetteDoc(angles), groups: [{ ...(planeRosetteDoc(angles).groups as any[])[0], fit_std_error_limit_micro: 40 }] });
+    const o40 = createGroupOutput(4);
+    evaluateGroup(s.groups[0].model, Float64Array.from(readings), 20, Number.NaN, o40);
+    expect(o40.flags & 0b10000).toBe(0b10000);
   });
 
   it('returns no stress and flags underdetermined when too few elements remain', () => {

@@ -89,8 +89,8 @@ describe('faults appear where the fault log says', async () => {
     const residual = (x: SimScan) => evaluateFromScan(g, x, x.truth.find((t) => t.group === g.config.id)!.temperature_degC).out;
     const before = pier.filter((x) => x.trueMs < e.start_ms).map(residual);
     const end = residual(pier.at(-1)!);
-    for (const o of before) expect(o.residualRmsMicro).toBeLessThan(5); // noise only: about 1 microstrain
-    expect(end.residualRmsMicro).toBeGreaterThan(g.model.residualLimitMicro);
+    for (const o of before) expect(o.fitStdErrorMicro).toBeLessThan(5); // noise only: about 1 microstrain
+    expect(end.fitStdErrorMicro).toBeGreaterThan(g.model.fitStdErrorLimitMicro);
     expect(end.flags & BIT_RESIDUAL_HIGH).toBe(BIT_RESIDUAL_HIGH);
   });
 

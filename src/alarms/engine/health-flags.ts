@@ -19,8 +19,9 @@ export const FLAG_HEALTH_CHECK: Readonly<Record<QualityFlag, HealthCheck>> = {
 const FLAG_CHECKS = ['residual_high', 'temperature_stale', 'result_incomplete'] as const;
 
 /** The value shown with each flag alarm. */
-const FLAG_QUANTITY: Record<(typeof FLAG_CHECKS)[number], { quantity: 'residual_rms_micro' | 'temperature_age_s' | null; units: string }> = {
-  residual_high: { quantity: 'residual_rms_micro', units: 'microstrain' },
+const FLAG_QUANTITY: Record<(typeof FLAG_CHECKS)[number], { quantity: 'fit_std_error_micro' | 'temperature_age_s' | null; units: string }> = {
+  // The quantity the group's fit_std_error_limit_micro compares.
+  residual_high: { quantity: 'fit_std_error_micro', units: 'microstrain' },
   temperature_stale: { quantity: 'temperature_age_s', units: 's' },
   result_incomplete: { quantity: null, units: '' },
 };

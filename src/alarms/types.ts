@@ -16,12 +16,26 @@ export interface Ack {
   atMs: number;
 }
 
+/**
+ * A part of the processor itself failing or recovering, as its adapter reports it (e.g. the
+ * spool cannot be written): an instrument-health alarm, since data is held or lost meanwhile.
+ */
+export interface ComponentFault {
+  type: 'component';
+  /** Which part, e.g. `spool`. */
+  component: string;
+  /** Why it fails, readable; null once it works again. */
+  failure: string | null;
+  atMs: number;
+}
+
 /** Everything the alarm engine consumes; each carries its own time. */
 export type AlarmInput =
   | { type: 'result'; result: GroupResult }
   | { type: 'frame'; frame: LoggerFrame }
   | Tick
-  | Ack;
+  | Ack
+  | ComponentFault;
 
 /** What the engine needs to know of a group (from the structure configuration). */
 export interface GroupInfo {
@@ -64,7 +78,8 @@ export type AlarmClass = 'structural' | 'health';
 export type AlarmSubject =
   | { kind: 'group'; groupId: string }
   | { kind: 'channel'; loggerId: string; channelId: string; groupId: string | null }
-  | { kind: 'logger'; loggerId: string };
+  | { kind: 'logger'; loggerId: string }
+  | { kind: 'component'; component: string };
 
 /** Alarm lifecycle: raised -> acknowledged -> cleared; cleared but unacknowledged stays visible. */
 export type AlarmState = 'active_unacknowledged' | 'active_acknowledged' | 'cleared_unacknowledged' | 'closed';

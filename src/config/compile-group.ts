@@ -108,7 +108,18 @@ export function compileGroup(
     yieldMPa: material.yieldMPa,
     tensileMPa: material.tensileMPa,
     compressiveMPa: material.compressiveMPa,
-    // The companion sits unstressed in the same material: it reads the free strain along its own axis.
-    companion: companion ? compileElement(companion, Float64Array.of(1, 0, 0, 0, 0, 0), solidAlpha) : null,
+    companion: companion ? compileCompanion(companion, solidAlpha) : null,
   };
+}
+
+/**
+ * The companion sits unstressed in the same material: the free strain is the same in every
+ * direction, so it sees it along its axis AND across its grid. Its row (ASTM E251 definition of Kt:
+ * indicated = (eps_a + Kt eps_t) / (1 - nu0 Kt)) sums to (1 + Kt) / (1 - nu0 Kt) on the normal
+ * components; the evaluator divides its total strain by that sum to recover the free strain.
+ * Which in-grid direction is taken does not matter for an isotropic free strain.
+ */
+function compileCompanion(gauge: GaugeConfig, solidAlpha: Float64Array): ElementModel {
+  const row = solidObservationRow([1, 0, 0], [0, 1, 0], gauge.transverse_sensitivity, gauge.transverse_calibration_nu);
+  return compileElement(gauge, row, solidAlpha);
 }

@@ -67,7 +67,8 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
   const comp = g.companion;
   if (comp !== null) {
     if (companionRaw === companionRaw && companionRaw >= comp.validMin && companionRaw <= comp.validMax) {
-      freeStrain = totalStrainMicro(comp, indicatedStrainMicro(comp, companionRaw, t), t, g.zeroTempC);
+      // Its row sums to (1 + Kt) / (1 - nu0 Kt) on the free strain (transverse sensitivity of the companion).
+      freeStrain = totalStrainMicro(comp, indicatedStrainMicro(comp, companionRaw, t), t, g.zeroTempC) / comp.rowNormalSum;
     } else flags |= BIT_COMPANION_MISSING;
   }
 

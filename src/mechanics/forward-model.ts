@@ -77,5 +77,6 @@ export function readingsFromStress(
 export function companionReading(g: GroupModel, freeStrainMicro: number, tempC: number): number {
   const el = g.companion;
   if (el === null) return Number.NaN;
-  return rawFromIndicated(el, indicatedFromTotal(el, freeStrainMicro, tempC, g.zeroTempC), tempC);
+  // Free strain in every direction: its row (transverse sensitivity included) sums it as rowNormalSum.
+  return rawFromIndicated(el, indicatedFromTotal(el, el.rowNormalSum * freeStrainMicro, tempC, g.zeroTempC), tempC);
 }

@@ -47,7 +47,8 @@ function planeDoc(material: { id: string }) {
 function solidDoc(material: { id: string }, withCompanion: boolean) {
   const dirs = [[1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, 0], [0, 1, 1], [1, 0, 1], [1, -1, 0.5]];
   const gauges = dirs.map((_, i) => vwGauge(`v${i}`, `c${i}`, 780 + 5 * i));
-  if (withCompanion) gauges.push(vwGauge('free', 'cf', 801));
+  // The companion's transverse sensitivity is part of its response to the free strain.
+  if (withCompanion) gauges.push({ ...vwGauge('free', 'cf', 801), transverse_sensitivity: 0.02 });
   return baseDoc([{
     id: 's', kind: 'solid_cluster', material: material.id, zone: 'z', location: 'bench',
     elements: dirs.map((d, i) => ({ gauge: `v${i}`, direction: d })),

@@ -60,6 +60,8 @@ export const HealthConfigSchema = z.strictObject({
   temperature_stale: z.strictObject(common).prefault({}),
   /** A result flagged element_missing, element_out_of_range, companion_missing or underdetermined. */
   result_incomplete: z.strictObject(common).prefault({}),
+  /** A part of the processor reports a fault (the spool cannot be written). */
+  component_fault: z.strictObject(common).prefault({}),
 });
 
 export type HealthConfig = z.infer<typeof HealthConfigSchema>;
@@ -74,5 +76,6 @@ export const HEALTH_CHECKS = [
   'residual_high',
   'temperature_stale',
   'result_incomplete',
+  'component_fault',
 ] as const;
 export type HealthCheck = (typeof HEALTH_CHECKS)[number];

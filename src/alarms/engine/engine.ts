@@ -4,6 +4,7 @@ import { tierCount } from '../routing/match.js';
 import { acknowledge } from './acknowledge.js';
 import { escalate } from './escalation.js';
 import type { EngineContext } from './evaluate.js';
+import { evaluateComponent } from './component-health.js';
 import { evaluateFlags } from './health-flags.js';
 import { evaluateFrame } from './health-channels.js';
 import { HEALTH_CHECKS } from '../schema.js';
@@ -66,6 +67,8 @@ export function createAlarmEngine(cfg: AlarmsConfig, lookups: AlarmLookups, snap
         const r = acknowledge(state, input, permissions);
         return 'transition' in r ? { transitions: [r.transition], refusals: [] } : { transitions: [], refusals: [r.refusal] };
       }
+      case 'component':
+        return { transitions: evaluateComponent(ctx, input), refusals: [] };
     }
   }
 

@@ -14,6 +14,7 @@ export const DEFAULT_HEALTH_ACTIONS: Readonly<Record<HealthCheck, string>> = {
   residual_high: 'Check the rosette elements: their readings do not fit one strain state.',
   temperature_stale: 'Check the temperature sensor and its logger: stresses use an old or default temperature.',
   result_incomplete: 'Check the missing or out-of-range elements of this group.',
+  component_fault: 'Check the processor host (free disk space, storage errors): data is held at the broker or lost until it works.',
 };
 
 /** Descriptor of a health alarm. */

@@ -18,6 +18,7 @@ export function transitionToPoint(t: AlarmTransition): Point {
     level: a.level, transition: t.kind, state: a.state, quantity: a.quantity,
   };
   if (s.kind === 'group') tags.group = s.groupId;
+  else if (s.kind === 'component') tags.component = s.component;
   else {
     tags.logger = s.loggerId;
     if (s.kind === 'channel') {

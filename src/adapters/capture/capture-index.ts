@@ -32,6 +32,6 @@ export async function readCaptureIndex(dir: string): Promise<CaptureIndex> {
 /** Replace the index atomically (write a temporary file, then rename over). */
 export async function writeCaptureIndex(dir: string, index: CaptureIndex): Promise<void> {
   const tmp = join(dir, `${CAPTURE_INDEX_NAME}.tmp`);
-  await writeFile(tmp, JSON.stringify(index, null, 1));
+  await writeFile(tmp, JSON.stringify(index, null, 1), { mode: 0o600 });
   await rename(tmp, join(dir, CAPTURE_INDEX_NAME));
 }

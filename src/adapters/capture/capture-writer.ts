@@ -16,25 +16,48 @@ export interface CaptureWriterOptions {
   retention?: CaptureRetention;
   /** Wall clock for retention ages, epoch ms. */
   now: () => number;
+  /** `durable()`: the longest a message waits for its batch to be written, ms. Default 50. */
+  syncDelay_ms?: number;
+  /** `durable()`: a batch is written at once when this many messages wait. Default 1024. */
+  syncBatch?: number;
+  /** A failed write is tried again after this long, ms (the batch waits in memory). Default 1000. */
+  retryDelay_ms?: number;
+  /** Called when writes start failing (the reason) and again, with null, when one succeeds after that. */
+  onWritable?: (failure: string | null) => void;
+}
+
+interface Deferred {
+  promise: Promise<void>;
+  resolve: () => void;
 }
 
 /**
  * Records every received message (refused ones too) for replay. `append` only buffers; `flush`
  * compresses the buffer as one gzip member, appends it and fsyncs, then rewrites the index.
- * Call `flush` per batch (e.g. every second) and `close` at shutdown. Never appends to a file of
- * an earlier run: after a crash that file's tail may be cut, and appending behind it would hide
- * everything written after.
+ * `durable()` is the group commit the live job acknowledges behind: it resolves once everything
+ * appended before it is on disk, writing one batch for all callers within `syncDelay_ms`.
+ * A write the disk refuses is cut back off the file and the batch kept to be tried again, so a
+ * full disk delays acknowledgements instead of losing records. Call `close` at shutdown. Never
+ * appends to a file of an earlier run: after a crash that file's tail may be cut, and appending
+ * behind it would hide everything written after. Files are created 0600.
  */
 export class CaptureWriter {
   private buffer: RawMessage[] = [];
   private current: CaptureIndexEntry | null = null;
   private chain: Promise<void> = Promise.resolve();
+  private appended = 0;
+  private written = 0;
+  /** Resolved once the messages appended so far are written; null when nobody waits. */
+  private waiting: Deferred | null = null;
+  private timer: ReturnType<typeof setTimeout> | null = null;
+  private failure: string | null = null;
+  private closed = false;
 
   private constructor(private readonly options: CaptureWriterOptions, private readonly index: CaptureIndex) {}
 
   /** Open a capture directory (created if needed); files left open by a crash are counted and closed. */
   static async open(options: CaptureWriterOptions): Promise<CaptureWriter> {
-    await mkdir(options.dir, { recursive: true });
+    await mkdir(options.dir, { recursive: true, mode: 0o700 });
     const index = await readCaptureIndex(options.dir);
     const names = sortCaptureFiles(await readdir(options.dir));
     const known = new Map(index.files.map((f) => [f.name, f]));
@@ -52,6 +75,24 @@ export class CaptureWriter {
   /** Buffer one message. Mutates the buffer only; nothing is durable before `flush`. */
   append(raw: RawMessage): void {
     this.buffer.push(raw);
+    this.appended++;
+    if (this.waiting !== null && this.buffer.length >= (this.options.syncBatch ?? 1024)) this.arm(0);
+  }
+
+  /**
+   * Resolves once every message appended before this call is written and synced (group commit:
+   * one batch for every caller within `syncDelay_ms`). While writes fail it stays pending (the
+   * batch is tried again every `retryDelay_ms`), so nothing is acknowledged that is not on disk.
+   */
+  durable(): Promise<void> {
+    if (this.written >= this.appended) return Promise.resolve();
+    if (this.waiting === null) {
+      let resolve: () => void = () => {};
+      const promise = new Promise<void>((r) => { resolve = r; });
+      this.waiting = { promise, resolve };
+      this.arm(this.buffer.length >= (this.options.syncBatch ?? 1024) ? 0 : this.options.syncDelay_ms ?? 50);
+    }
+    return this.waiting.promise;
   }
 
   /** Messages buffered and not yet flushed. */
@@ -68,6 +109,8 @@ export class CaptureWriter {
 
   /** Flush and close the current file (marked closed in the index). */
   async close(): Promise<void> {
+    this.closed = true;
+    if (this.timer !== null) clearTimeout(this.timer);
     await this.flush();
     await this.chain;
     if (this.current) this.current.closed = true;
@@ -75,21 +118,58 @@ export class CaptureWriter {
     await writeCaptureIndex(this.options.dir, this.index);
   }
 
+  /** Writes the batch due for the waiting callers; on failure keeps it and tries again later. */
+  private arm(delay_ms: number): void {
+    if (this.timer !== null || this.closed) return;
+    this.timer = setTimeout(() => {
+      this.timer = null;
+      this.flush().catch(() => { if (this.waiting !== null) this.arm(this.options.retryDelay_ms ?? 1000); });
+    }, delay_ms);
+  }
+
   private async flushNow(): Promise<void> {
     const batch = this.buffer;
+    const waiting = this.waiting;
     this.buffer = [];
-    let group: RawMessage[] = [];
-    for (const raw of batch) {
-      if (this.needsRotation(raw)) {
-        await this.writeGroup(group);
-        group = [];
-        this.startFile(raw.arrivalMs);
-      }
-      group.push(raw);
+    this.waiting = null;
+    if (batch.length === 0) {
+      waiting?.resolve();
+      return;
     }
-    await this.writeGroup(group);
+    let done = 0;
+    try {
+      let group: RawMessage[] = [];
+      for (const raw of batch) {
+        if (this.needsRotation(raw)) {
+          await this.writeGroup(group);
+          done += group.length;
+          group = [];
+          this.startFile(raw.arrivalMs);
+        }
+        group.push(raw);
+      }
+      await this.writeGroup(group);
+      done += group.length;
+    } catch (err) {
+      // What was not written goes back in front, in order, with its waiters.
+      this.written += done;
+      this.buffer = [...batch.slice(done), ...this.buffer];
+      if (this.waiting !== null) this.waiting.promise.then(waiting?.resolve, () => {});
+      else this.waiting = waiting;
+      this.noteWritable(err instanceof Error ? err.message : String(err));
+      throw err;
+    }
+    this.written += done;
+    this.noteWritable(null);
+    waiting?.resolve();
     await this.applyRetention();
     await writeCaptureIndex(this.options.dir, this.index);
+  }
+
+  private noteWritable(failure: string | null): void {
+    const changed = (failure === null) !== (this.failure === null);
+    this.failure = failure;
+    if (changed) this.options.onWritable?.(failure);
   }
 
   private needsRotation(raw: RawMessage): boolean {
@@ -109,10 +189,14 @@ export class CaptureWriter {
     const c = this.current;
     if (group.length === 0 || c === null) return;
     const member = gzipSync(group.map(encodeCaptureLine).join(''));
-    const fh = await open(join(this.options.dir, c.name), 'a');
+    const fh = await open(join(this.options.dir, c.name), 'a', 0o600);
     try {
       await fh.appendFile(member);
       await fh.datasync();
+    } catch (err) {
+      // A torn member in the middle of a file would hide every member behind it from a reader.
+      await fh.truncate(c.bytes).catch(() => {});
+      throw err;
     } finally {
       await fh.close();
     }

@@ -25,7 +25,7 @@ export function recordCommand(): Command {
     .description('record every message of the structure\'s topics to a raw capture, without processing')
     .requiredOption('-c, --config <file>', 'runtime configuration (broker, topic layout, capture settings)')
     .option('--dir <dir>', 'capture directory (default: the runtime configuration\'s capture.dir)')
-    .option('--flush-ms <ms>', 'flush and sync the capture this often', '1000')
+    .option('--flush-ms <ms>', 'the longest a message waits for its batch to be written and synced (then it is acknowledged)', '1000')
     .action(async (raw: unknown) => {
       const o = parseOptions(RecordOptionsSchema, raw);
       const log = pino({ name: 'strainward-record' }, pino.destination(2));
@@ -33,7 +33,8 @@ export function recordCommand(): Command {
       const dir = resolve(baseDir, o.dir ?? rc.capture?.dir ?? 'var/capture');
       const capture = await CaptureWriter.open({
         dir, rotateBytes: rc.capture?.rotate_bytes ?? 64 * 1024 ** 2, rotateEvery_ms: (rc.capture?.rotate_every_s ?? 3600) * 1000, now: Date.now,
-        retention: { maxAge_h: rc.capture?.retention_hours, maxBytes: rc.capture?.retention_bytes },
+        retention: { maxAge_h: rc.capture?.retention_hours, maxBytes: rc.capture?.retention_bytes }, syncDelay_ms: o.flushMs,
+        onWritable: (failure) => (failure === null ? log.info({ event: 'capture_writable' }) : log.error({ event: 'capture_failed', message: failure })),
       });
       const pattern = compileTopicPattern(rc.mqtt.topic_pattern);
       const connection = await connectMqtt({
@@ -41,24 +42,18 @@ export function recordCommand(): Command {
         fallbackToV311: rc.mqtt.fallback_to_v311,
         subscriptions: [subscriptionFilter(pattern, structure.structureId)],
       }, { now: Date.now, log: (event, detail) => log.info({ event, ...detail }) });
-      let pendingAcks: Array<() => void> = [];
       let recorded = 0;
+      // Acknowledged once synced; a failed write is tried again (the acknowledgement waits).
       const sub = connection.messages$.subscribe((m) => {
         capture.append(m.raw);
-        pendingAcks.push(() => m.ack());
+        capture.durable().then(() => m.ack(), () => {});
         recorded++;
       });
-      const timer = setInterval(() => {
-        const acks = pendingAcks;
-        pendingAcks = [];
-        capture.flush().then(() => acks.forEach((a) => a()), (e) => log.error({ event: 'capture_failed', message: String(e) }));
-      }, o.flushMs);
       log.info({ event: 'recording', dir, structure: structure.structureId });
       await new Promise<void>((done) => { process.once('SIGINT', done); process.once('SIGTERM', done); });
-      clearInterval(timer);
       sub.unsubscribe();
       await capture.close();
-      pendingAcks.forEach((a) => a());
+      await new Promise((r) => setImmediate(r)); // the last acknowledgements go out before the DISCONNECT
       await connection.close();
       log.info({ event: 'stopped', recorded });
     });

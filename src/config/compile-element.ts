@@ -52,7 +52,7 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
   } else if (sig.unit === 'Hz' || sig.unit === 'digits') {
     el.signal = sig.unit === 'Hz' ? SIGNAL_VW_HZ : SIGNAL_VW_DIGITS;
     el.zero = sig.unit === 'Hz' ? vibratingWireDigits(gauge.zero_reading) : gauge.zero_reading;
-    el.vwMicroPerDigit = sig.gauge_factor * sig.batch_factor;
+    el.vwMicroPerDigit = sig.micro_per_digit * sig.calibration_multiplier;
     // The wire expands with the host: the reading is relative to the wire's own free length.
     el.referenceExpansionMicroPerDegC = sig.wire_alpha_per_degC * rowNormalSum * 1e6;
   }

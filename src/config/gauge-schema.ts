@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { renamedTo } from './renamed.js';
 import { IdSchema } from './material-schema.js';
 
 /** Where a value comes from: a logger and one of its channels. */
@@ -24,13 +25,20 @@ const BridgeSignal = z.strictObject({
 });
 
 const VibratingWireSignal = z.strictObject({
-  /** Resonant frequency in Hz, or linear units "digits" = f^2 / 1000. */
+  /** Resonant frequency in Hz, or "digits" = f^2 / 1000 (the trade's linear reading unit, common practice). */
   unit: z.enum(['Hz', 'digits']),
-  /** Microstrain per digit (the gauge's wire-length constant), from the gauge's calibration sheet. */
-  gauge_factor: z.number().positive(),
-  batch_factor: z.number().positive().default(1),
+  /**
+   * Microstrain per digit of the taut wire: 4 L^2 rho 1000 / E x 1e6 for wire length L (m),
+   * density rho (kg/m3) and modulus E (Pa), since f = (1/2L) sqrt(sigma/rho) (src/mechanics/thermal.ts).
+   */
+  micro_per_digit: z.number().positive(),
+  /** Correction of micro_per_digit from the gauge's own calibration (e.g. 1.012); 1 when none. */
+  calibration_multiplier: z.number().positive().default(1),
   /** Expansion coefficient of the steel wire, 1/degC. */
   wire_alpha_per_degC: z.number().min(0).max(1e-4),
+  /** Renamed: "gauge factor" is the resistance gauge's dR/R per strain; this is microstrain per digit. */
+  gauge_factor: renamedTo('micro_per_digit', 'microstrain per digit of the taut wire'),
+  batch_factor: renamedTo('calibration_multiplier', 'the correction from the gauge\'s own calibration'),
 });
 
 export const ThermalOutputSchema = z.strictObject({

@@ -1,15 +1,8 @@
 import { z } from 'zod';
 import { IdSchema } from './material-schema.js';
+import { renamedTo } from './renamed.js';
 
 const vector3 = z.tuple([z.number(), z.number(), z.number()]);
-
-/**
- * A key that was renamed: refused with a message naming its successor (a strict object would only
- * say "unknown key"). Optional `never`, so the parsed type carries nothing.
- */
-export function renamedTo(newKey: string, why: string) {
-  return z.never({ error: `renamed to "${newKey}": ${why}` }).optional();
-}
 
 const PlaneElement = z.strictObject({
   gauge: IdSchema,

@@ -25,7 +25,7 @@ export interface ElementModel {
   gfRefTempC: number;
   bridgeCode: number;
   leadFactor: number;
-  /** Vibrating wire: microstrain per digit (gauge factor x batch factor). */
+  /** Vibrating wire: microstrain per digit (micro_per_digit x calibration_multiplier). */
   vwMicroPerDigit: number;
   /** Thermal-output polynomial (microstrain vs degC) rescaled to the gauge factor; empty = none. */
   thermalOutput: Float64Array;

@@ -42,9 +42,20 @@ export function horner(coeffs: Float64Array, x: number): number {
 }
 
 /**
- * Vibrating-wire reading in linear units ("digits", f^2 / 1000) from a frequency in Hz.
- * The strain is then gaugeFactor * batchFactor * (digits - zeroDigits) microstrain.
+ * Vibrating-wire reading in linear units ("digits", f^2 / 1000: the trade's unit, common practice)
+ * from a frequency in Hz. The strain is then microPerDigit * calibrationMultiplier * (digits - zeroDigits).
  */
 export function vibratingWireDigits(frequencyHz: number): number {
   return (frequencyHz * frequencyHz) / 1000;
+}
+
+/**
+ * Microstrain per digit of a taut wire, from first principles. A wire of length L (m), density rho
+ * (kg/m3) under stress sigma vibrates at f = (1 / 2L) sqrt(sigma / rho) (fundamental mode of a
+ * string), so sigma = 4 L^2 rho f^2 and the wire's strain sigma / E = 4 L^2 rho f^2 / E. With
+ * digits = f^2 / 1000, strain per digit = 4 L^2 rho 1000 / E; times 1e6 for microstrain.
+ * Configuration-time helper (the configuration gives the constant itself).
+ */
+export function tautWireMicroPerDigit(lengthM: number, densityKgPerM3: number, modulusPa: number): number {
+  return ((4 * lengthM * lengthM * densityKgPerM3 * 1000) / modulusPa) * 1e6;
 }

@@ -1,6 +1,8 @@
+import { readFileSync } from 'node:fs';
+import { parse } from 'yaml';
 import { describe, expect, it } from 'vitest';
 import { bridgeOutputRatio, bridgeStrainMicro, gaugeFactorAt, leadWireFactor } from '../../src/mechanics/bridge.js';
-import { horner, thermalOutputMicro, thermalStrainVector, vibratingWireDigits } from '../../src/mechanics/thermal.js';
+import { horner, tautWireMicroPerDigit, thermalOutputMicro, thermalStrainVector, vibratingWireDigits } from '../../src/mechanics/thermal.js';
 import { isotropicStiffness } from '../../src/mechanics/stiffness.js';
 
 /** Output ratio of a Wheatstone bridge from its four arm resistances (arms 1-2 and 4-3 as the two dividers). */
@@ -81,5 +83,21 @@ describe('thermal effects', () => {
   it('vibrating-wire digits are f^2 / 1000', () => {
     // Linear "digits" unit of vibrating-wire readouts (common practice).
     expect(vibratingWireDigits(800)).toBe(640);
+  });
+
+  it('microstrain per digit of a taut wire from first principles, and the demo constant', () => {
+    // Fundamental frequency of a taut string f = (1 / 2L) sqrt(sigma / rho) (vibrating string; common practice).
+    // Wire length 0.140 m, steel density 7850 kg/m3 and modulus 200 GPa are INVENTED for the demo.
+    const L = 0.14, rho = 7850, E = 200e9;
+    const k = tautWireMicroPerDigit(L, rho, E);
+    expect(k).toBeCloseTo((4 * 0.0196 * 7850 * 1000 / 200e9) * 1e6, 12); // = 3.0772 microstrain per digit
+    // Physical check: a wire at strain eps vibrates at f; its digits times k give eps back.
+    for (const strainMicro of [800, 2000, 3100]) {
+      const f = (1 / (2 * L)) * Math.sqrt((E * strainMicro * 1e-6) / rho);
+      expect(k * vibratingWireDigits(f)).toBeCloseTo(strainMicro, 9);
+    }
+    // The demo structure's constant is this one, rounded to five figures.
+    const demo = parse(readFileSync('config/brannock-mere.yaml', 'utf8')).gauges.find((g: { id: string }) => g.id === 'ec-m1-1');
+    expect(demo.signal.micro_per_digit).toBeCloseTo(k, 4);
   });
 });

@@ -29,7 +29,8 @@ function bridgeGauge(id: string, ch: string, zero: number, gaugeFactor = 2.08) {
 function vwGauge(id: string, ch: string, zero: number) {
   return {
     id, kind: 'vibrating_wire', channel: { logger: 'lg', channel: ch },
-    signal: { unit: 'Hz', gauge_factor: 3.304, batch_factor: 0.98, wire_alpha_per_degC: 12.2e-6 },
+    // Invented wire constants (the demo wire's 3.0772 microstrain per digit; multiplier and expansion invented).
+    signal: { unit: 'Hz', micro_per_digit: 3.0772, calibration_multiplier: 0.994, wire_alpha_per_degC: 11.7e-6 },
     zero_reading: zero, zero_temperature_degC: 12,
   };
 }

@@ -55,13 +55,14 @@ describe('temperature compensation at group level', () => {
 
   it('a vibrating-wire gauge in free concrete reads (alpha_concrete - alpha_wire) dT and shows no stress', () => {
     // Vibrating-wire temperature correction (common practice): the wire expands with the host.
+    // Wire constants invented (3.0772 microstrain per digit, 12e-6 per degC).
     const concrete = { id: 'c', kind: 'isotropic', E_MPa: 33000, nu: 0.2, alpha_per_degC: 10e-6 };
-    const evalAt = singleGroup({ kind: 'vibrating_wire', signal: { unit: 'digits', gauge_factor: 3.304, wire_alpha_per_degC: 12.2e-6 }, zero_reading: 640 }, concrete);
+    const evalAt = singleGroup({ kind: 'vibrating_wire', signal: { unit: 'digits', micro_per_digit: 3.0772, wire_alpha_per_degC: 12e-6 }, zero_reading: 640 }, concrete);
     const t = 35;
-    const apparentMicro = (10e-6 - 12.2e-6) * (t - T0) * 1e6; // -44 microstrain
-    const out = evalAt(640 + apparentMicro / 3.304, t);
+    const apparentMicro = (10e-6 - 12e-6) * (t - T0) * 1e6; // -40 microstrain
+    const out = evalAt(640 + apparentMicro / 3.0772, t);
     expect(out.axialStressMPa).toBeCloseTo(0, 9);
-    expect(out.elementApparentMicro[0]).toBeCloseTo(-44, 9);
+    expect(out.elementApparentMicro[0]).toBeCloseTo(-40, 9);
   });
 
   it('flags a missing temperature and computes without thermal correction', () => {

@@ -1,3 +1,5 @@
+import { z } from 'zod';
+
 /**
  * Hampel identifier (trailing window). The MAD is scaled by 1.4826 = 1 / Phi^-1(3/4) so that it
  * estimates the standard deviation of normally distributed data (Rousseeuw & Croux, "Alternatives
@@ -7,17 +9,42 @@
 export const MAD_TO_SIGMA = 1.4826;
 
 /**
- * The previous readings (oldest first), and an outlier waiting for the next reading to tell a spike
- * (it comes back) from a real change such as a vehicle or a step (it stays). Plain JSON.
+ * A spike is an excursion that comes back to the level around it: the reading after it must be
+ * within this fraction of the limit of the last reading before it. "Back inside the limit" alone
+ * took a vehicle's peak (92.8 against a limit of 90.7, the next reading 2.4 lower) for a spike.
+ */
+export const SPIKE_RETURN_FRACTION = 0.5;
+/** Longest excursion, in readings, that can still be a spike; a longer one is a real change. */
+export const SPIKE_MAX_SAMPLES = 2;
+
+/**
+ * The previous readings (oldest first), and an excursion waiting for the readings after it to
+ * tell a spike (it comes back) from a real change such as a vehicle or a step (it stays). Plain
+ * JSON; `hampelStateSchema` below is its snapshot schema (keep the two in step).
  */
 export interface HampelState {
   window: number[];
-  pending?: { x: number; median: number; limit: number } | null;
+  /**
+   * The excursion under judgement: its latest reading, the median and limit it was judged with,
+   * and how many readings it has lasted (1 when absent: snapshots written before the count).
+   */
+  pending?: { x: number; median: number; limit: number; count?: number } | null;
 }
 
+const Num = z.number().finite();
+/** Snapshot schema of HampelState (the alarm engine's state file). */
+export const hampelStateSchema = z.strictObject({
+  window: z.array(Num),
+  pending: z.strictObject({ x: Num, median: Num, limit: Num, count: z.number().int().positive().optional() }).nullable().optional(),
+});
+
 export interface HampelVerdict {
-  /** True when the previous reading was an isolated spike: an outlier the next reading left. */
+  /** True when an excursion ended at this reading and was a spike (it came back). */
   spike: boolean;
+  /** Readings of the excursion that ended at this reading (spike or real change); 0 when none ended. */
+  ended: number;
+  /** True when this reading is part of an excursion not yet judged (the readings after it decide). */
+  held: boolean;
   /** Median the judged reading was compared with; null until the window is full. */
   median: number | null;
   /** Allowed deviation from the median, channel units; null until the window is full. */
@@ -39,11 +66,13 @@ function push(state: HampelState, x: number, windowSamples: number): void {
 }
 
 /**
- * Judge `x` against the previous windowSamples readings. An outlier,
- * |x - median| > max(kMads x 1.4826 x MAD, minDeviation), is held for one reading: if the next one
- * is back inside the limit it was a spike (reported then, and kept out of the window); if not, it
- * was a real change (a ramp under traffic, a step) and joins the window. A trailing window alone
- * would call every fast real change a spike. Mutates `state`.
+ * Judge `x` against the previous windowSamples readings. A reading starts an excursion when it
+ * stands more than the limit, max(kMads x 1.4826 x MAD, minDeviation), from both the window median
+ * and the reading before it (a vehicle's peak climbs over several readings: it never jumps from the
+ * one before). The excursion is a spike if, within SPIKE_MAX_SAMPLES readings, a reading comes back
+ * within SPIKE_RETURN_FRACTION x limit of the last reading before it; the spike's readings stay out
+ * of the window. An excursion that does not come back is a real change (a step): its latest reading
+ * joins the window and the next one is judged afresh. Mutates `state`.
  */
 export function hampelStep(
   state: HampelState,
@@ -53,22 +82,34 @@ export function hampelStep(
   minDeviation: number,
 ): HampelVerdict {
   const pending = state.pending ?? null;
-  state.pending = null;
+  let ended = 0;
   if (pending !== null) {
-    if (Math.abs(x - pending.median) <= pending.limit) {
+    const count = pending.count ?? 1;
+    const before = state.window[state.window.length - 1];
+    if (Math.abs(x - before) <= SPIKE_RETURN_FRACTION * pending.limit) {
+      state.pending = null;
       push(state, x, windowSamples);
-      return { spike: true, median: pending.median, limit: pending.limit, deviation: pending.x - pending.median };
+      return { spike: true, ended: count, held: false, median: pending.median, limit: pending.limit, deviation: pending.x - pending.median };
     }
+    if (count < SPIKE_MAX_SAMPLES) {
+      pending.x = x;
+      pending.count = count + 1;
+      return { spike: false, ended: 0, held: true, median: pending.median, limit: pending.limit, deviation: null };
+    }
+    state.pending = null;
     push(state, pending.x, windowSamples);
+    ended = count;
   }
   if (state.window.length < windowSamples) {
     push(state, x, windowSamples);
-    return { spike: false, median: null, limit: null, deviation: null };
+    return { spike: false, ended, held: false, median: null, limit: null, deviation: null };
   }
   const med = median(state.window);
   const mad = median(state.window.map((v) => Math.abs(v - med)));
   const limit = Math.max(kMads * MAD_TO_SIGMA * mad, minDeviation);
-  if (Math.abs(x - med) > limit) state.pending = { x, median: med, limit };
+  const before = state.window[state.window.length - 1];
+  const held = Math.abs(x - med) > limit && Math.abs(x - before) > limit;
+  if (held) state.pending = { x, median: med, limit, count: 1 };
   else push(state, x, windowSamples);
-  return { spike: false, median: med, limit, deviation: null };
+  return { spike: false, ended, held, median: med, limit, deviation: null };
 }

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { hampelStep, MAD_TO_SIGMA, median } from '../../../src/alarms/engine/hampel.js';
+import { hampelStateSchema, hampelStep, MAD_TO_SIGMA, median, SPIKE_RETURN_FRACTION } from '../../../src/alarms/engine/hampel.js';
 import { hysteresisLevel } from '../../../src/alarms/engine/hysteresis.js';
 import { debounce, newDebounce } from '../../../src/alarms/engine/debounce.js';
 import { flatlineStep, newFlatline, resetFlatline } from '../../../src/alarms/engine/flatline.js';
@@ -11,26 +11,54 @@ describe('hampel', () => {
     // Phi^-1(0.75) = 0.6744897502 (standard normal quantile table, from memory); Rousseeuw & Croux (1993) give 1.4826
     expect(MAD_TO_SIGMA).toBeCloseTo(1 / 0.6744897502, 4);
   });
-  it('flags a reading beyond k MADs of the window median and not one inside', () => {
+  it('holds a reading beyond k MADs of both the median and the reading before; a spike when the next is back', () => {
     const s = { window: [10, 11, 9, 10, 12, 10, 11] }; // median 10, MAD 1 -> limit 3 x 1.4826 = 4.4478
     const inside = hampelStep({ window: [...s.window] }, 14, 7, 3, 0);
-    expect(inside).toEqual({ spike: false, median: 10, limit: expect.closeTo(4.4478, 6), deviation: null });
-    expect(hampelStep(s, 15, 7, 3, 0).spike).toBe(false); // an outlier: spike or real change? the next reading tells
-    expect(hampelStep(s, 10, 7, 3, 0)).toMatchObject({ spike: true, median: 10, deviation: 5 });
+    expect(inside).toEqual({ spike: false, ended: 0, held: false, median: 10, limit: expect.closeTo(4.4478, 6), deviation: null });
+    expect(hampelStep(s, 16, 7, 3, 0)).toMatchObject({ spike: false, held: true }); // spike or real change? the next reading tells
+    // Back within SPIKE_RETURN_FRACTION x limit = 2.2239 of the reading before it (11): 10 is.
+    expect(hampelStep(s, 10, 7, 3, 0)).toMatchObject({ spike: true, ended: 1, held: false, median: 10, deviation: 6 });
     expect(s.window).toEqual([11, 9, 10, 12, 10, 11, 10]); // the spike stays out; the window slides, oldest out
+  });
+  it('a reading barely back inside the limit is not a return: a peak that eases off is no spike', () => {
+    const s = { window: [10, 11, 9, 10, 12, 10, 11] };
+    expect(hampelStep(s, 15.6, 7, 3, 0).held).toBe(true); // 5.6 from the median, 4.6 from the reading before
+    expect(SPIKE_RETURN_FRACTION * 4.4478).toBeCloseTo(2.2239, 4);
+    // 14.3 is inside the limit of the median (4.3 < 4.4478) but 3.3 from 11, more than 2.2239: not back.
+    expect(hampelStep(s, 14.3, 7, 3, 0)).toMatchObject({ spike: false, held: true });
+    expect(hampelStep(s, 14.1, 7, 3, 0)).toMatchObject({ spike: false, ended: 2, held: false }); // SPIKE_MAX_SAMPLES = 2 passed: a real change
+    expect(s.window).toEqual([9, 10, 12, 10, 11, 14.3, 14.1]);
+  });
+  it('does not start an excursion on a reading close to the one before it (a ramp)', () => {
+    const s = { window: [10, 11, 9, 10, 12, 10, 14] }; // median 10, MAD 1; the reading before is 14
+    expect(hampelStep(s, 15, 7, 3, 0)).toMatchObject({ held: false, spike: false }); // 5 from the median, 1 from 14
+  });
+  it('finds a two-reading spike that comes back', () => {
+    const s = { window: [10, 11, 9, 10, 12, 10, 11] };
+    expect(hampelStep(s, 30, 7, 3, 0).held).toBe(true);
+    expect(hampelStep(s, 31, 7, 3, 0)).toMatchObject({ held: true, ended: 0 });
+    expect(hampelStep(s, 11.5, 7, 3, 0)).toMatchObject({ spike: true, ended: 2, deviation: 21 });
+    expect(s.window).toEqual([11, 9, 10, 12, 10, 11, 11.5]);
   });
   it('takes an outlier that stays (a ramp or a step) as a real change, not a spike', () => {
     const s = { window: [10, 11, 9, 10, 12, 10, 11] };
     expect(hampelStep(s, 20, 7, 3, 0).spike).toBe(false);
     expect(hampelStep(s, 21, 7, 3, 0).spike).toBe(false);
-    expect(s.window).toEqual([11, 9, 10, 12, 10, 11, 20]);
+    expect(hampelStep(s, 21, 7, 3, 0)).toMatchObject({ spike: false, ended: 2 });
+    expect(s.window).toEqual([9, 10, 12, 10, 11, 21, 21]);
+  });
+  it('reads a snapshot written before the excursion count (count absent = 1)', () => {
+    const s = hampelStateSchema.parse({ window: [10, 11, 9, 10, 12, 10, 11], pending: { x: 15, median: 10, limit: 4.4478 } });
+    expect(hampelStep(s, 10.5, 7, 3, 0)).toMatchObject({ spike: true, ended: 1 });
+    expect(() => hampelStateSchema.parse({ window: [], pending: { x: 1, median: 0, limit: 1, count: 0 } })).toThrow();
   });
   it('judges nothing until the window is full; min_deviation guards a zero MAD', () => {
     const s = { window: [] as number[] };
     for (let i = 0; i < 5; i++) expect(hampelStep(s, 5, 5, 3, 0.5).median).toBeNull();
-    expect(hampelStep(s, 5.4, 5, 3, 0.5).spike).toBe(false);
-    expect(hampelStep(s, 5.6, 5, 3, 0.5).spike).toBe(false);
-    expect(hampelStep(s, 5.1, 5, 3, 0.5).spike).toBe(true);
+    expect(hampelStep(s, 5.4, 5, 3, 0.5).held).toBe(false);
+    expect(hampelStep(s, 5.8, 5, 3, 0.5).held).toBe(false); // 0.8 from the median but only 0.4 from 5.4
+    expect(hampelStep(s, 6.5, 5, 3, 0.5).held).toBe(true); // window [5 5 5 5.4 5.8]: 1.5 from 5, 0.7 from 5.8
+    expect(hampelStep(s, 5.6, 5, 3, 0.5).spike).toBe(true); // within 0.25 of 5.8
   });
   it('median of even and odd lists, without mutating', () => {
     const xs = [4, 1, 3, 2];

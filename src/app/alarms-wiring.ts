@@ -3,7 +3,7 @@ import {
   alarmBatches, createAlarmEngine, loadSnapshot, saveSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
-import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, TransitionKind } from '../alarms/types.js';
+import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, TransitionKind } from '../alarms/types.js';
 import { redactUrl } from '../adapters/secret.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -45,6 +45,8 @@ export interface AlarmWiringDeps {
   onError?: (event: string, err: unknown) => void;
   /** Each handled batch and its delivery records, in order. */
   onBatch?: (batch: AlarmBatch, records: readonly DeliveryRecord[]) => void;
+  /** Faults of the processor's own parts (live only: a replay has none), as health-alarm inputs. */
+  componentFaults$?: Observable<ComponentFault>;
 }
 
 /** Counters of the alarm wiring; `counts()` returns a copy. */
@@ -167,6 +169,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
   const items$ = connectable(merge(
     processed$.pipe(concatMap((o) => toAlarmInputs(o).map((input): Item => ({ kind: 'input', input })))),
     acks$.pipe(map((e): Item => (e.ok ? { kind: 'input', input: e.ack } : { kind: 'refusal', refusal: e.refusal }))),
+    ...(deps.componentFaults$ === undefined ? [] : [deps.componentFaults$.pipe(map((input): Item => ({ kind: 'input', input })))]),
   ).pipe(takeUntil(closing$)), { connector: () => new Subject<Item>(), resetOnDisconnect: false });
   const batches$ = items$.pipe(
     filter((i): i is Extract<Item, { kind: 'input' }> => i.kind === 'input'),

@@ -7,6 +7,7 @@ import { MqttDeadLetterSink } from '../adapters/deadletter/mqtt-sink.js';
 import { NdjsonFileDeadLetterSink } from '../adapters/deadletter/ndjson-file-sink.js';
 import { connectMqtt, type InboundMessage, type MqttConnection } from '../adapters/mqtt/connection.js';
 import { ackTopic, parseAckPayload } from '../alarms/index.js';
+import type { ComponentFault } from '../alarms/types.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
 import { compileTopicPattern, subscriptionFilter } from '../ingest/topic.js';
@@ -19,6 +20,7 @@ import { alarmLookups } from './lookups.js';
 import { brokerAccess } from './broker-access.js';
 import { presenceMessage, presenceTopic, startPresence } from './presence.js';
 import { ensureParent, openPointSink } from './sinks.js';
+import { failureSummary } from './failure-summary.js';
 import { loadWebhookAuth } from './webhook-auth.js';
 
 export interface LiveDeps {
@@ -42,11 +44,21 @@ export interface LiveProcessor {
 export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<LiveProcessor> {
   const { runtime: rc, structure, baseDir } = loaded;
   const topicPattern = compileTopicPattern(rc.mqtt.topic_pattern);
-  const { sink, influx, lineFiles } = await openPointSink(rc, baseDir, deps.now, (ratio) => deps.log('spool_high_water', { fillRatio: ratio }));
+  // The processor's own parts failing (spool, capture): logged, and instrument-health alarms.
+  const componentFaults$ = new Subject<ComponentFault>();
+  const componentFault = (component: string, failure: string | null): void => {
+    deps.log(failure === null ? `${component}_writable` : `${component}_unwritable`, failure === null ? {} : { reason: failure });
+    componentFaults$.next({ type: 'component', component, failure, atMs: deps.now() });
+  };
+  const { sink, influx, lineFiles } = await openPointSink(rc, baseDir, deps.now, {
+    highWater: (s) => deps.log('spool_high_water', { fillRatio: s.fillRatio, limitBytes: s.limitBytes, diskFreeBytes: s.diskFreeBytes }),
+    writable: (failure) => componentFault('spool', failure),
+  });
   const capture = rc.capture
     ? await CaptureWriter.open({
       dir: resolve(baseDir, rc.capture.dir), rotateBytes: rc.capture.rotate_bytes, rotateEvery_ms: rc.capture.rotate_every_s * 1000, now: deps.now,
       retention: { maxAge_h: rc.capture.retention_hours, maxBytes: rc.capture.retention_bytes },
+      syncDelay_ms: rc.capture.flush_every_ms, onWritable: (failure) => componentFault('capture', failure),
     })
     : null;
   const alarmsCfg = structure.alarms;
@@ -77,7 +89,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const stopped$ = new ReplaySubject<void>(1); // write retries give up at stop: unacknowledged, redelivered next start
   // Split by topic before the pipeline: acknowledgement commands never reach the decoder. Both
   // branches hang off one subject, connected last, so neither misses a message kept for the first subscriber.
-  const inbound$ = connectable(connection.messages$, { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
+  // The capture is the archive a replay recomputes from: every message (results, refusals,
+  // commands) is acknowledged only once its capture record is synced too (group commit).
+  const afterCapture = (m: InboundMessage): InboundMessage => (capture === null ? m
+    : { ...m, ack: () => { capture.durable().then(() => m.ack(), () => {}); } });
+  const inbound$ = connectable(connection.messages$.pipe(map(afterCapture)), { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
   const isCommand = (m: InboundMessage): boolean => m.raw.topic === commandTopic;
   const inputs$ = merge(
     inbound$.pipe(filter((m) => !isCommand(m)), map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
@@ -102,12 +118,15 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: connection.publish, ...alarmFiles,
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
+    componentFaults$,
   });
+  // One line per 10 s while writes fail (a full spool fails every frame), with the count.
+  const writeFailures = failureSummary(deps.log, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
     processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {
       writeErrors++;
-      deps.log('write_failed', { message: err instanceof Error ? err.message : String(err) });
+      writeFailures.note(err instanceof Error ? err.message : String(err));
     }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
   processed$.connect();
@@ -127,18 +146,18 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     return {
       frames: processor.counts.frames, results: processor.counts.results, rejected_messages: decodeCounts.rejected,
       held_acks: connection.stats().heldAcks, database_reachable: db ? db.dbReachable : null, spool_fill_ratio: db ? db.spoolFillRatio : null,
+      spool_limit_bytes: db ? db.spoolLimitBytes : null, spool_disk_free_bytes: db ? db.spoolDiskFreeBytes : null,
     };
   }, deps.now, (err) => deps.log('presence_failed', { message: err instanceof Error ? err.message : String(err) }));
-  const captureFlush = capture ? setInterval(() => { capture.flush().catch((e) => deps.log('capture_failed', { message: String(e) })); }, rc.capture!.flush_every_ms) : null;
 
   return {
     connection,
     status,
     async stop() {
-      if (captureFlush) clearInterval(captureFlush);
       stop$.next();
       stopped$.next();
       await drained;
+      writeFailures.stop();
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await sink.close();
       await capture?.close();

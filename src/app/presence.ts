@@ -29,6 +29,9 @@ export interface PresenceMessage {
   held_acks?: number;
   database_reachable?: boolean | null;
   spool_fill_ratio?: number | null;
+  /** The spool's own limit and the free space of the disk it is on, bytes: the disk may fill first. */
+  spool_limit_bytes?: number | null;
+  spool_disk_free_bytes?: number | null;
 }
 
 /** `{structure}` and `{client_id}` replaced; null when presence is switched off (empty pattern). */
@@ -38,7 +41,7 @@ export function presenceTopic(pattern: string, structureId: string, clientId: st
 }
 
 /** Counters of the live job's status, in the presence message's names. */
-export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio'>;
+export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio' | 'spool_limit_bytes' | 'spool_disk_free_bytes'>;
 
 export interface Presence {
   /** Publishes `stopped` (retained) and ends the heartbeat. */

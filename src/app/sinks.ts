@@ -5,11 +5,18 @@ import { LineFileSink } from '../adapters/lineproto/file-sink.js';
 import { loadToken } from '../adapters/secret.js';
 import type { RuntimeConfig } from '../config/runtime-schema.js';
 import type { PointSink } from '../model/point.js';
+import type { SpoolStatus } from '../adapters/spool/spool.js';
+
+/** What the live job hears of its spool: the fill passing its high-water mark, appends failing or working again. */
+export interface SpoolEvents {
+  highWater?: (status: SpoolStatus) => void;
+  writable?: (failure: string | null, status: SpoolStatus) => void;
+}
 
 /** The point sink a runtime configuration asks for: the database (with its spool) or line-protocol files. */
 export async function openPointSink(
   rc: RuntimeConfig, baseDir: string, now: () => number,
-  onSpoolHighWater: (fillRatio: number) => void = () => {},
+  spoolEvents: SpoolEvents = {},
 ): Promise<{ sink: PointSink; influx: InfluxSink | null; lineFiles: LineFileSink | null }> {
   if (rc.database) {
     const db = rc.database;
@@ -21,7 +28,7 @@ export async function openPointSink(
       now,
       spool: {
         dir: resolve(baseDir, db.spool.dir), limitBytes: db.spool.limit_bytes, policy: db.spool.policy,
-        highWaterRatio: db.spool.high_water_ratio, onHighWater: (s) => onSpoolHighWater(s.fillRatio),
+        highWaterRatio: db.spool.high_water_ratio, onHighWater: spoolEvents.highWater, onWritable: spoolEvents.writable,
       },
     });
     return { sink: influx, influx, lineFiles: null };

@@ -90,7 +90,11 @@ export const RuntimeConfigSchema = z.strictObject({
     dir: z.string().min(1),
     rotate_bytes: z.number().int().positive().default(64 * 1024 ** 2),
     rotate_every_s: z.number().positive().default(3600),
-    flush_every_ms: duration_ms.default(1000),
+    /**
+     * The longest a message waits for its capture batch to be written and synced; it is
+     * acknowledged only after that (and after its results are durable). One batch per interval.
+     */
+    flush_every_ms: duration_ms.default(50),
     retention_hours: z.number().positive().optional(),
     retention_bytes: z.number().int().positive().optional(),
   }).optional(),

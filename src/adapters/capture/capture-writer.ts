@@ -154,7 +154,9 @@ export class CaptureWriter {
       // What was not written goes back in front, in order, with its waiters.
       this.written += done;
       this.buffer = [...batch.slice(done), ...this.buffer];
-      if (this.waiting !== null) this.waiting.promise.then(waiting?.resolve, () => {});
+      // Callers that came during the write wait for the same next batch.
+      const later = this.waiting as Deferred | null;
+      if (later !== null) void later.promise.then(waiting?.resolve);
       else this.waiting = waiting;
       this.noteWritable(err instanceof Error ? err.message : String(err));
       throw err;

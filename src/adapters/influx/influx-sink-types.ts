@@ -23,6 +23,10 @@ export interface InfluxSinkStatus {
   spoolBytes: number;
   spoolLimitBytes: number;
   spoolFillRatio: number;
+  /** Free bytes on the spool's disk (the spool's own limit may be far from what the disk holds); null if unknown. */
+  spoolDiskFreeBytes: number | null;
+  /** Why the latest spool append failed, while appends fail (full disk, limit under `block`); else null. */
+  spoolWriteFailure: string | null;
   /** Result of the latest write attempt; null before the first. */
   dbReachable: boolean | null;
   writtenPoints: number;

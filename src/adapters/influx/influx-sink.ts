@@ -116,6 +116,8 @@ export class InfluxSink implements PointSink {
       spoolBytes: spool.bytes,
       spoolLimitBytes: spool.limitBytes,
       spoolFillRatio: spool.fillRatio,
+      spoolDiskFreeBytes: spool.diskFreeBytes,
+      spoolWriteFailure: spool.writeFailure,
       dbReachable: this.health.dbReachable,
       ...this.counters,
       droppedPoints: spool.droppedPoints,

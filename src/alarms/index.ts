@@ -3,8 +3,11 @@ export * from './schema.js';
 export * from './types.js';
 export { createAlarmEngine, type AlarmEngine, type StepOutput } from './engine/engine.js';
 export { alarms, alarmBatches, alarmTicks, type AlarmBatch, type AlarmOperatorOptions } from './operator.js';
-export { AckCommandSchema, ackTopic, parseAckPayload, buildAckCommand, publishAck, type AckCommand } from './ack.js';
-export { mosquittoAckAcl, type AckAclOptions } from './acl.js';
+export {
+  AckCommandSchema, AckUserSchema, ackTopic, ackSubscription, ackVerdictTopic, ackUserOfTopic, parseAckPayload, buildAckCommand, publishAck,
+  type AckCommand, type AckVerdict,
+} from './ack.js';
+export { mosquittoAcl, type BrokerAclOptions } from './acl.js';
 export { selectDeliveries, fillTopic, type Delivery } from './routing/select.js';
 export { matchingRoutes, tierCount } from './routing/match.js';
 export { alarmMessage, alarmText, type AlarmMessageBody } from './routing/format.js';

@@ -61,7 +61,17 @@ export const AcknowledgementSchema = z.strictObject({
     structural: z.array(z.string().min(1)).default([]),
     health: z.array(z.string().min(1)).default([]),
   }),
-  command_topic: z.string().min(1).default('strainward/{structure}/alarms/ack'),
+  /**
+   * Command topic per user: `{user}` is one whole topic level, which the broker's ACL ties to the
+   * login (`pattern write .../ack/%u`), so the processor takes the user from the topic.
+   */
+  command_topic: z.string().min(1).default('strainward/{structure}/alarms/ack/{user}')
+    .refine((t) => t.split('/').filter((l) => l === '{user}').length === 1 && !/[+#]/.test(t), {
+      message: 'needs {user} as one whole topic level (e.g. strainward/{structure}/alarms/ack/{user}) and no wildcard: the user comes from the topic the broker authorised',
+    }),
+  /** Where the processor answers each command, per user (`{user}` filled in). */
+  verdict_topic: z.string().min(1).default('strainward/{structure}/alarms/ack-verdict/{user}')
+    .refine((t) => t.includes('{user}') && !/[+#]/.test(t), { message: 'needs {user} and no wildcard' }),
 });
 
 /** Raise/clear cycles above max_cycles within window_s: one suppressed_flapping alarm instead. */

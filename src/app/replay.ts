@@ -1,5 +1,5 @@
 import { filter, lastValueFrom, map, share, tap, type Observable } from 'rxjs';
-import { ackTopic, parseAckPayload } from '../alarms/index.js';
+import { ackUserOfTopic, parseAckPayload } from '../alarms/index.js';
 import type { AlarmTransition } from '../alarms/index.js';
 import { alarmLookups } from './lookups.js';
 import { attachAlarms, type AckEvent } from './alarms-wiring.js';
@@ -61,8 +61,9 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const collected: GroupResult[] = [];
   let messages = 0;
   let writeErrors = 0;
-  const commandTopic = o.structure.alarms ? ackTopic(o.structure.alarms, o.structure.structureId) : null;
-  const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && i.message.raw.topic === commandTopic;
+  const alarmsCfg = o.structure.alarms;
+  const commandUser = (topic: string): string | null => (alarmsCfg ? ackUserOfTopic(alarmsCfg, o.structure.structureId, topic) : null);
+  const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && commandUser(i.message.raw.topic) !== null;
   // One pass over the capture, split like live: acknowledgement commands to the alarms, the rest to the pipeline.
   const source$ = replaySource(o.messages, {
     tickMs: o.tickMs, speed: o.speed, sleep: o.sleep,
@@ -70,7 +71,7 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   }).pipe(share());
   const acks$ = source$.pipe(
     filter(isCommand),
-    map((i): AckEvent => { const raw = (i as { message: PipelineMessage }).message.raw; return parseAckPayload(raw.payload, raw.arrivalMs); }),
+    map((i): AckEvent => { const raw = (i as { message: PipelineMessage }).message.raw; return parseAckPayload(raw.payload, raw.arrivalMs, commandUser(raw.topic) ?? ''); }),
   );
   const processed$ = source$.pipe(filter((i) => !isCommand(i)), pipeline<PipelineMessage>({
     structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters: o.deadLetters,

@@ -3,15 +3,24 @@ import { MissingReadingError, UnknownGroupError } from '../results/calculate.js'
 
 /**
  * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
- * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent).
+ * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent), 5 an
+ * acknowledgement refused by the processor or left without a verdict (`ack`).
  */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4 } as const;
+export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5 } as const;
 
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {
   constructor(message: string) {
     super(message);
     this.name = 'SilentProcessorError';
+  }
+}
+
+/** `strainward ack`: the processor refused the acknowledgement, or gave no verdict within the wait. */
+export class AckRefusedError extends Error {
+  constructor(message: string, readonly verdict: { code: string | null } | null) {
+    super(message);
+    this.name = 'AckRefusedError';
   }
 }
 
@@ -26,6 +35,7 @@ export class UsageError extends Error {
 export function exitCodeFor(err: unknown): number {
   if (err instanceof ConfigError) return EXIT.config;
   if (err instanceof SilentProcessorError) return EXIT.silent;
+  if (err instanceof AckRefusedError) return EXIT.refused;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError) return EXIT.usage;
   return EXIT.runtime;
 }

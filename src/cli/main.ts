@@ -1,5 +1,6 @@
 import { Command } from 'commander';
 import { ackCommand } from './commands/ack.js';
+import { brokerAclCommand } from './commands/broker-acl.js';
 import { calcCommand } from './commands/calc.js';
 import { recordCommand } from './commands/record.js';
 import { replayCommand } from './commands/replay.js';
@@ -17,7 +18,8 @@ export async function main(argv: string[]): Promise<number> {
     .addCommand(ackCommand())
     .addCommand(recordCommand())
     .addCommand(replayCommand())
-    .addCommand(statusCommand());
+    .addCommand(statusCommand())
+    .addCommand(brokerAclCommand());
   try {
     await program.parseAsync(argv);
     return 0;

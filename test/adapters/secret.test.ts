@@ -26,7 +26,7 @@ describe('loadToken', () => {
   });
   it('refuses a set variable together with a configured file (the file would go unchecked), naming both', async () => {
     const file = await secretFile('from-file\n', 0o644);
-    const error = await loadToken({ env: 'SW_TOKEN', file }, { SW_TOKEN: TOKEN }).catch((e: unknown) => e as Error);
+    const error = (await loadToken({ env: 'SW_TOKEN', file }, { SW_TOKEN: TOKEN }).catch((e: unknown) => e)) as Error;
     expect(error).toBeInstanceOf(SecretError);
     expect(error.message).toMatch(/both environment variable SW_TOKEN and token file .*token are set/);
     expect(error.message).not.toContain(TOKEN);

@@ -10,7 +10,7 @@ const issues = (input: unknown) => {
 describe('AlarmsConfigSchema', () => {
   it('accepts the fixture and fills defaults', () => {
     const cfg = AlarmsConfigSchema.parse(configInput());
-    expect(cfg.acknowledgement.command_topic).toBe('strainward/{structure}/alarms/ack');
+    expect(cfg.acknowledgement.command_topic).toBe('strainward/{structure}/alarms/ack/{user}');
     expect(cfg.health.no_data).toEqual({ enabled: true, off_delay_s: 0, missing_after_intervals: 3 });
     expect(cfg.health.spike).toMatchObject({ enabled: false, window_samples: 15, k_mads: 3 });
     expect(cfg.flapping).toEqual({ max_cycles: 4, window_s: 600 });

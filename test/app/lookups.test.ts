@@ -78,7 +78,7 @@ describe('the alarms section in a structure file', () => {
   it('is compiled with its defaults, or null when absent', () => {
     const s = compileOrThrow(doc(alarms([rule({ kind: 'structure' })])));
     expect(s.alarms?.escalation.after_s).toBe(900);
-    expect(s.alarms?.acknowledgement.command_topic).toBe('strainward/{structure}/alarms/ack');
+    expect(s.alarms?.acknowledgement.command_topic).toBe('strainward/{structure}/alarms/ack/{user}');
     expect(compileOrThrow(baseDoc(doc(undefined).groups as unknown[], doc(undefined).gauges as unknown[])).alarms).toBeNull();
   });
 

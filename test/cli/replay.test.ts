@@ -106,7 +106,7 @@ describe('strainward replay', () => {
         if (!sent && m.arrivalMs > raised.atMs + 1000) {
           sent = true;
           const body = JSON.stringify({ alarm_id: raised.alarm.id, user: 'duty-engineer-1', reason: 'heavy vehicle seen on camera' });
-          yield { topic: 'strainward/brannock-mere/alarms/ack', payload: new TextEncoder().encode(body), arrivalMs: m.arrivalMs };
+          yield { topic: 'strainward/brannock-mere/alarms/ack/duty-engineer-1', payload: new TextEncoder().encode(body), arrivalMs: m.arrivalMs };
         }
         yield m;
       }

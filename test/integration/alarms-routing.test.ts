@@ -12,7 +12,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { startMosquitto, type MosquittoServer } from '../support/servers.js';
 import {
-  AlarmsConfigSchema, alarmBatches, ackTopic, buildAckCommand, createAlarmEngine, createBatchHandler, createDispatcher,
+  AlarmsConfigSchema, alarmBatches, ackSubscription, ackUserOfTopic, buildAckCommand, createAlarmEngine, createBatchHandler, createDispatcher,
   createMqttDelivery, createWebhookDelivery, loadSnapshot, openAlarmLog, parseAckPayload,
   type AlarmInput, type AlarmLog, type AlarmLookups, type AlarmMessageBody, type DeliveryRecord,
 } from '../../src/alarms/index.js';
@@ -78,12 +78,12 @@ beforeAll(async () => {
   });
   const handle = createBatchHandler({ snapshotPath: join(dir, 'alarms-state.json'), dispatcher });
   sub = inputs.pipe(alarmBatches(cfg, testLookups), concatMap(handle)).subscribe((r) => records.push(...r));
-  processor.on('message', (_topic, payload) => {
-    const parsed = parseAckPayload(payload, nowMs);
+  processor.on('message', (topic, payload) => {
+    const parsed = parseAckPayload(payload, nowMs, ackUserOfTopic(cfg, 'brannock-mere', topic) ?? '');
     if (parsed.ok) inputs.next(parsed.ack);
     else void log.refusal(parsed.refusal);
   });
-  await processor.subscribeAsync(ackTopic(cfg, 'brannock-mere'), { qos: 1 });
+  await processor.subscribeAsync(ackSubscription(cfg, 'brannock-mere'), { qos: 1 });
 });
 
 afterAll(async () => {

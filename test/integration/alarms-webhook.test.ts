@@ -16,7 +16,7 @@ afterEach(async () => {
   while (stops.length > 0) await stops.pop()!();
 });
 
-async function deliveryTo(url: string, channel: { timeout_ms?: number; max_attempts?: number; backoff_ms?: number; auth?: unknown } = {}): Promise<Delivery> {
+async function deliveryTo(url: string, channel: { timeout_ms?: number; max_attempts?: number; backoff_ms?: number; auth?: { header?: string; prefix?: string; secret_env?: string; secret_file?: string } } = {}): Promise<Delivery> {
   const cfg = config({
     recipients: [{ id: 'deck-crew', kind: 'crew', channels: [{ kind: 'webhook', url, timeout_ms: 300, max_attempts: 3, backoff_ms: 20, ...channel }] }],
     routes: [{ match: {}, tiers: [['deck-crew']] }],
@@ -88,7 +88,7 @@ describe('webhook authentication and secrets (local HTTP receiver)', () => {
     await writeFile(join(dir, 'crew.secret'), `${SECRET}\n`, { mode: 0o600 });
     // A URL with a query token, as some receivers are configured.
     const url = `${rx.url}?token=q-991&zone=span-1`;
-    const d = await deliveryTo(url, { auth: { header: 'X-Crew-Auth', prefix: 'Key ', secret_file: 'crew.secret' } } as never);
+    const d = await deliveryTo(url, { auth: { header: 'X-Crew-Auth', prefix: 'Key ', secret_file: 'crew.secret' } });
     const cfg = config({ recipients: [{ id: 'deck-crew', kind: 'crew', channels: [d.channel as never] }], routes: [{ match: {}, tiers: [['deck-crew']] }] });
     const auth = await loadWebhookAuth(cfg, dir, {});
     const channel = cfg.recipients[0].channels[0];

@@ -28,6 +28,8 @@ export interface AlarmMessageBody {
   suppressed_count: number;
   tier: number;
   acknowledged_by: string | null;
+  /** Why, as the acknowledging user wrote it. */
+  acknowledged_reason: string | null;
   text: string;
 }
 
@@ -79,6 +81,6 @@ export function alarmMessage(t: AlarmTransition): AlarmMessageBody {
     level: a.level, level_index: a.levelIndex, previous_level: t.previousLevel ?? null, state: a.state,
     since: iso(a.sinceMs), trend_per_s: a.trendPerS, action: a.action, raise_count: a.raiseCount,
     repeat_count: a.repeatCount, suppressed_count: a.suppressedCount, tier: a.tier,
-    acknowledged_by: a.acknowledgement?.user ?? null, text: alarmText(t),
+    acknowledged_by: a.acknowledgement?.user ?? null, acknowledged_reason: a.acknowledgement?.reason ?? null, text: alarmText(t),
   };
 }

@@ -12,6 +12,10 @@ export const StatusOptionsSchema = z.strictObject({
   /** How long to collect the broker's retained status messages. */
   waitMs: z.coerce.number().int().positive().default(2_000),
   json: z.boolean().default(false),
+  /** Broker login of a read-only viewer (default: the runtime file's user). */
+  mqttUsername: z.string().min(1).optional(),
+  /** Environment variable holding that login's broker password. */
+  mqttPasswordEnv: z.string().min(1).optional(),
 });
 
 /**
@@ -24,7 +28,12 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
   const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
   const filter = presenceTopic(rc.presence.topic, structure.structureId, '+');
   if (filter === null) throw new UsageError(`${o.config}: presence.topic is empty, so processors publish no status to check`);
-  const client = await connectOneShot(brokerAccess(rc, baseDir, env), {
+  const access = brokerAccess(rc, baseDir, env);
+  if (o.mqttUsername !== undefined) {
+    access.username = o.mqttUsername;
+    access.password = o.mqttPasswordEnv ? env[o.mqttPasswordEnv] : undefined;
+  }
+  const client = await connectOneShot(access, {
     clientIdPrefix: `${rc.mqtt.client_id}-status`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.waitMs * 5,
   });
   const received = new Map<string, Uint8Array>(); // the latest per topic
@@ -61,5 +70,7 @@ export function statusCommand(): Command {
     .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON)')
     .option('--wait-ms <ms>', 'how long to collect the retained status messages', '2000')
     .option('--json', 'one JSON object instead of lines')
+    .option('--mqtt-username <name>', 'broker login to read with, e.g. a read-only viewer (default: the runtime file\'s)')
+    .option('--mqtt-password-env <var>', 'environment variable holding that login\'s broker password')
     .action(async (raw: unknown) => { await checkStatus(raw, (line) => process.stdout.write(`${line}\n`)); });
 }

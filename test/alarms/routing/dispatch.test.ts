@@ -78,6 +78,6 @@ describe('dispatcher', () => {
   it('publishAck publishes the validated command at QoS 1', async () => {
     const sent: unknown[] = [];
     await publishAck(async (topic, payload, opts) => void sent.push({ topic, payload: JSON.parse(payload), opts }), cfg, 'brannock-mere', { alarmId: t.alarm.id, user: 'eng-ashdown', reason: 'ok' });
-    expect(sent).toEqual([{ topic: 'strainward/brannock-mere/alarms/ack', payload: { alarm_id: t.alarm.id, user: 'eng-ashdown', reason: 'ok' }, opts: { qos: 1, retain: false } }]);
+    expect(sent).toEqual([{ topic: 'strainward/brannock-mere/alarms/ack/eng-ashdown', payload: { alarm_id: t.alarm.id, user: 'eng-ashdown', reason: 'ok' }, opts: { qos: 1, retain: false } }]);
   });
 });

@@ -1,0 +1,160 @@
+/**
+ * The live job under the shipped broker ACL (config/mosquitto/brannock-mere.acl, regenerated here
+ * and compared) on a real Mosquitto with a password file (mosquitto_passwd) and no anonymous
+ * access: the processor receives scans and publishes presence, `status` works for a read-only
+ * viewer, nobody can fake the processor's presence, and acknowledgements carry the identity the
+ * broker authenticated (the user is the topic's, never the payload's).
+ */
+import { execFile } from 'node:child_process';
+import { mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { promisify } from 'node:util';
+import mqtt, { type MqttClient } from 'mqtt';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { startLive, type LiveProcessor } from '../../src/app/live.js';
+import { main } from '../../src/cli/main.js';
+import { brokerAclText } from '../../src/cli/commands/broker-acl.js';
+import { loadRuntimeFile } from '../../src/config/load-runtime.js';
+import { readingsFromStress } from '../../src/mechanics/forward-model.js';
+import { waitFor } from '../alarms/support/http-receiver.js';
+import { startMosquitto, type MosquittoServer } from '../support/servers.js';
+import { filesUnder, writeRuntimeFile } from '../support/runtime-file.js';
+
+const run = promisify(execFile);
+const S = 'strainward/brannock-mere';
+const LOGINS = ['strainward', 'lg-span1', 'lg-thermal', 'duty-engineer-1', 'instr-tech-1', 'control-room-display'];
+const password = (login: string) => `pw-${login}-7c1`;
+
+let dir = '';
+let broker: MosquittoServer;
+let live: LiveProcessor;
+let runtime = '';
+let engineer: MqttClient;
+const notified: Array<{ alarm_id: string; transition: string; rule_id?: string; group_id?: string }> = [];
+
+async function connectAs(login: string): Promise<MqttClient> {
+  return mqtt.connectAsync(broker.url, { username: login, password: password(login), protocolVersion: 5, reconnectPeriod: 0, clientId: `t-${login}-${Math.random().toString(36).slice(2)}` });
+}
+
+/** Runs a CLI command in-process with the password variables set; its exit code and output. */
+async function cli(args: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = '';
+  let err = '';
+  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
+  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c) => { err += String(c); return true; });
+  try {
+    return { code: await main(['node', 'strainward', ...args]), out, err };
+  } finally {
+    o.mockRestore();
+    e.mockRestore();
+  }
+}
+
+beforeAll(async () => {
+  dir = await mkdtemp(join(tmpdir(), 'sw-acl-live-'));
+  const pw = join(dir, 'passwords');
+  await writeFile(pw, '');
+  for (const login of LOGINS) {
+    await run('/usr/bin/mosquitto_passwd', ['-b', pw, login, password(login)]);
+    process.env[`SW_TEST_PW_${login.replaceAll('-', '_')}`] = password(login);
+  }
+  runtime = await writeRuntimeFile(dir, 'mqtt://placeholder', 'test-acl-live', filesUnder(dir));
+  const acl = join(dir, 'acl');
+  await writeFile(acl, await brokerAclText({ config: runtime, viewer: ['control-room-display'] }));
+  broker = await startMosquitto({ passwordFile: pw, aclFile: acl, allowAnonymous: false });
+  runtime = await writeRuntimeFile(dir, broker.url, 'test-acl-live', [
+    ...filesUnder(dir),
+  ]);
+  // The processor's login, its password from the environment.
+  const text = await readFile(runtime, 'utf8');
+  await writeFile(runtime, text.replace(/mqtt: \{ (.*) \}/, 'mqtt: { $1, username: strainward, password_env: SW_TEST_PW_strainward }'));
+  live = await startLive(await loadRuntimeFile(runtime), { now: () => Date.now(), log: () => {} });
+  engineer = await connectAs('duty-engineer-1');
+  engineer.on('message', (_t, payload) => { notified.push(JSON.parse(payload.toString('utf8'))); });
+  await engineer.subscribeAsync(`${S}/notify/deck-crew`, { qos: 1 });
+}, 30_000);
+
+afterAll(async () => {
+  await engineer?.endAsync();
+  await live?.stop();
+  await broker?.stop();
+  await rm(dir, { recursive: true, force: true });
+});
+
+describe('the live job under the shipped broker ACL', () => {
+  it('the shipped ACL file is what broker-acl prints for the example runtime file', async () => {
+    const shipped = await readFile('config/mosquitto/brannock-mere.acl', 'utf8');
+    expect(shipped).toBe(await brokerAclText({ config: 'config/brannock-mere.run.yaml', viewer: ['control-room-display'] }));
+  });
+
+  it('computes the loggers\' scans, raises an alarm to the crew, and status works for a read-only viewer', async () => {
+    const g = (await loadRuntimeFile(runtime)).structure.groupsById.get('flange-south-mid1')!;
+    const t0 = Date.now();
+    const thermal = await connectAs('lg-thermal');
+    await thermal.publishAsync(`${S}/lg-thermal/scan`, JSON.stringify({ ts: t0, values: { t1: 14, t2: 14, t3: 14, t4: 14 } }), { qos: 1 });
+    await thermal.endAsync();
+    const span = await connectAs('lg-span1');
+    for (let k = 0; k < 12; k++) {
+      const raw = readingsFromStress(g.model, [80], 14, Number.NaN, new Float64Array(1));
+      await span.publishAsync(`${S}/lg-span1/scan`, JSON.stringify({ ts: t0 + 100 * k, values: { ch01: 0, ch02: 0, ch03: 0, ch04: raw[0] } }), { qos: 1 });
+    }
+    await span.endAsync();
+    await waitFor(() => notified.some((n) => n.transition === 'raised' && n.alarm_id.includes('steel-von-mises')), 'the structural alarm at the deck crew');
+    const st = await cli(['status', '-c', runtime, '--wait-ms', '400', '--mqtt-username', 'control-room-display', '--mqtt-password-env', 'SW_TEST_PW_control_room_display']);
+    expect(st.err).toBe('');
+    expect(st.code).toBe(0);
+  }, 30_000);
+
+  it('nobody but the processor can publish its presence: a viewer\'s fake "online" never reaches status', async () => {
+    const viewer = await connectAs('control-room-display');
+    const outcome = await viewer.publishAsync(`${S}/processor/fake-processor`, JSON.stringify({ state: 'online' }), { qos: 1, retain: true })
+      .then(() => 'sent', (e: Error) => `refused: ${e.message}`);
+    await viewer.endAsync();
+    // Mosquitto 2 answers a denied QoS 1 publish with PUBACK "not authorized" (MQTT 5 reason 0x87, observed) or drops it;
+    // either way it must not be stored: the check is what status then sees.
+    expect(outcome).toMatch(/^(sent|refused: .*authori)/i);
+    const st = await cli(['status', '-c', runtime, '--wait-ms', '400', '--json', '--mqtt-username', 'control-room-display', '--mqtt-password-env', 'SW_TEST_PW_control_room_display']);
+    const processors = (JSON.parse(st.out) as { processors: Array<{ processor: string }> }).processors.map((p) => p.processor);
+    expect(processors).toEqual(['test-acl-live']);
+  }, 20_000);
+
+  it('acknowledgements: the identity is the authenticated login; refusals are answered on MQTT with exit 5', async () => {
+    const alarmId = notified.find((n) => n.transition === 'raised' && n.alarm_id.includes('steel-von-mises'))!.alarm_id;
+    const ack = (login: string, extra: string[] = []) => cli([
+      'ack', '-c', runtime, '--alarm', alarmId, '--user', login, '--reason', 'checked the deck from the camera', '--timeout-ms', '3000',
+      '--mqtt-password-env', `SW_TEST_PW_${login.replaceAll('-', '_')}`, ...extra,
+    ]);
+    // A technician allowed health alarms only: refused by the processor, answered on their verdict topic.
+    const tech = await ack('instr-tech-1');
+    expect(tech.code).toBe(5);
+    expect(tech.err).toMatch(/refused \(user_not_allowed\): user "instr-tech-1" may not acknowledge structural alarms/);
+    // The same technician signing as the duty engineer in the payload: identity_mismatch.
+    const forger = await connectAs('instr-tech-1');
+    const verdicts: string[] = [];
+    forger.on('message', (_t, p) => verdicts.push(p.toString('utf8')));
+    await forger.subscribeAsync(`${S}/alarms/ack-verdict/instr-tech-1`, { qos: 1 });
+    await forger.publishAsync(`${S}/alarms/ack/instr-tech-1`, JSON.stringify({ alarm_id: alarmId, user: 'duty-engineer-1', reason: 'forged' }), { qos: 1 });
+    // ...and on the duty engineer's own topic: the broker does not let it through.
+    await forger.publishAsync(`${S}/alarms/ack/duty-engineer-1`, JSON.stringify({ alarm_id: alarmId, reason: 'forged' }), { qos: 1 }).catch(() => undefined);
+    await waitFor(() => verdicts.length >= 1, 'the identity_mismatch verdict');
+    expect(JSON.parse(verdicts[0])).toMatchObject({ verdict: 'refused', code: 'identity_mismatch', user: 'instr-tech-1' });
+    await forger.endAsync();
+    // A viewer cannot publish a command at all: the broker refuses it (MQTT 5 PUBACK 0x87), exit 5.
+    const viewer = await ack('control-room-display');
+    expect(viewer.code).toBe(5);
+    expect(viewer.err).toMatch(/the broker refused the command: login "control-room-display" may not publish on strainward\/brannock-mere\/alarms\/ack\/control-room-display \(broker ACL\)/);
+    // The duty engineer: acknowledged, the verdict printed, exit 0; the alarm log records who and why.
+    const eng = await ack('duty-engineer-1');
+    expect(eng.err).toBe('');
+    expect(eng.code).toBe(0);
+    expect(eng.out).toMatch(/acknowledged; the alarm is still active \(by duty-engineer-1/);
+    await waitFor(() => notified.some((n) => n.transition === 'acknowledged'), 'the acknowledged message');
+    const log = (await readFile(join(dir, 'alarms.ndjson'), 'utf8')).trim().split('\n').map((l) => JSON.parse(l));
+    const acked = log.filter((l) => l.type === 'transition' && l.message.transition === 'acknowledged');
+    expect(acked).toHaveLength(1);
+    expect(acked[0].message).toMatchObject({ alarm_id: alarmId, acknowledged_by: 'duty-engineer-1', acknowledged_reason: 'checked the deck from the camera' });
+    const refusals = log.filter((l) => l.type === 'refusal').map((l) => `${l.refusal.code}:${l.refusal.user}`);
+    expect(refusals).toEqual(['user_not_allowed:instr-tech-1', 'identity_mismatch:instr-tech-1']);
+  }, 30_000);
+});

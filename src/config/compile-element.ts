@@ -8,16 +8,15 @@ import type { GaugeConfig } from './gauge-schema.js';
 /**
  * Builds one element's numeric model. `physicalRow` is its observation row in strain space
  * (plane 3 or solid 6 entries, transverse sensitivity folded in); `hostAlpha` the host's free
- * expansion on the normal components of that space (1/degC).
+ * expansion per degC in that space, engineering shear included (a rotated orthotropic host has
+ * shear terms), 1/degC.
  */
 export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, hostAlpha: Float64Array): ElementModel {
   const normals = physicalRow.length === 3 ? 2 : 3;
   let rowNormalSum = 0;
   let hostExpansion = 0;
-  for (let k = 0; k < normals; k++) {
-    rowNormalSum += physicalRow[k];
-    hostExpansion += physicalRow[k] * hostAlpha[k];
-  }
+  for (let k = 0; k < normals; k++) rowNormalSum += physicalRow[k];
+  for (let k = 0; k < physicalRow.length; k++) hostExpansion += physicalRow[k] * hostAlpha[k];
   const sig = gauge.signal;
   const el: ElementModel = {
     gaugeId: gauge.id,

@@ -2,6 +2,7 @@ import {
   GROUP_PLANE, GROUP_SOLID, GROUP_UNIAXIAL, type ElementModel, type GroupModel,
 } from '../mechanics/group-model.js';
 import { buildReduction } from '../mechanics/reduction.js';
+import { rotateCompliance, rotateStrainVector, rotationAboutZ, rotationFromAngles, type Rotation3 } from '../mechanics/rotation.js';
 import { invertSquare, planeStressCompliance } from '../mechanics/stiffness.js';
 import { normalStrainRow2, normalStrainRow3, ZZ, XX, YY, XY } from '../mechanics/voigt.js';
 import type { MaterialModel } from './compile-material.js';
@@ -43,10 +44,13 @@ export function unit(v: readonly number[]): number[] {
 export function compileGroup(
   group: GroupConfig, gauges: GaugeConfig[], companion: GaugeConfig | null, material: MaterialModel,
 ): GroupModel | null {
-  const s6 = material.compliance;
+  // Material properties in the group's axes: rotated once here, never per sample.
+  const r = materialRotation(group);
+  const s6 = r === null ? material.compliance : rotateCompliance(material.compliance, r);
+  const solidAlpha = r === null ? material.alpha : rotateStrainVector(material.alpha, r);
   const sp = planeStressCompliance(s6);
-  const planeAlpha = Float64Array.from([material.alpha[0], material.alpha[1], 0]);
-  const solidAlpha = Float64Array.from([material.alpha[0], material.alpha[1], material.alpha[2], 0, 0, 0]);
+  // In-plane expansion xx, yy, xy (engineering shear: non-zero for a rotated orthotropic material).
+  const planeAlpha = Float64Array.of(solidAlpha[XX], solidAlpha[YY], solidAlpha[XY]);
   const elements: ElementModel[] = [];
   const m = gauges.length;
   let n: number;
@@ -66,7 +70,7 @@ export function compileGroup(
       elements.push(compileElement(g, row, solidAlpha));
     });
     stiffness = invertSquare(s6, 6);
-    hostAlpha = material.alpha;
+    hostAlpha = solidAlpha;
   } else {
     const rows = group.elements.map((e, i) =>
       planeObservationRow('angle_deg' in e ? e.angle_deg : 0, gauges[i].transverse_sensitivity, gauges[i].transverse_calibration_nu));
@@ -77,7 +81,7 @@ export function compileGroup(
       obs = new Float64Array(m * n);
       rows.forEach((row, i) => obs.set(row, i * n));
       stiffness = invertSquare(sp, 3);
-      hostAlpha = planeAlpha.subarray(0, 2);
+      hostAlpha = planeAlpha;
     } else {
       // Uniaxial stress sigma along x: plane strain state = sigma (S11, S21, S61), so with the axial
       // strain as the unknown the state is axial * (1, S21/S11, S61/S11).
@@ -86,6 +90,7 @@ export function compileGroup(
       const b = [1, sp[3] / sp[0], sp[6] / sp[0]];
       obs = Float64Array.from(rows, (row) => row[0] * b[0] + row[1] * b[1] + row[2] * b[2]);
       stiffness = Float64Array.of(1 / sp[0]);
+      // Free expansion along the gauge axis x.
       hostAlpha = planeAlpha.subarray(0, 1);
     }
   }
@@ -122,4 +127,13 @@ export function compileGroup(
 function compileCompanion(gauge: GaugeConfig, solidAlpha: Float64Array): ElementModel {
   const row = solidObservationRow([1, 0, 0], [0, 1, 0], gauge.transverse_sensitivity, gauge.transverse_calibration_nu);
   return compileElement(gauge, row, solidAlpha);
+}
+
+/** The group's material orientation as a rotation from group to material axes, or null when none is given. */
+export function materialRotation(group: GroupConfig): Rotation3 | null {
+  if (group.kind === 'solid_cluster') {
+    const m = group.material_rotation_deg;
+    return m === undefined ? null : rotationFromAngles(m.about_z * DEG, m.about_y * DEG, m.about_x * DEG);
+  }
+  return group.material_angle_deg === undefined ? null : rotationAboutZ(group.material_angle_deg * DEG);
 }

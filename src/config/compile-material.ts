@@ -6,7 +6,9 @@ import {
 /** A material in the numeric form the group models need: compliance (1/MPa), alpha (1/degC), capacities (MPa). */
 export interface MaterialModel {
   id: string;
+  /** 6x6 compliance in material axes, Voigt order. */
   compliance: Float64Array;
+  /** Free expansion per degC in material axes as a Voigt engineering-strain 6-vector (shear entries 0 unless given). */
   alpha: Float64Array;
   yieldMPa: number;
   tensileMPa: number;
@@ -35,6 +37,8 @@ export function compileMaterial(m: MaterialConfig): { ok: true; model: MaterialM
   } else {
     const c = Float64Array.from(m.stiffness_MPa.flat());
     if (asymmetry(c, 6) > 1e-9) return { ok: false, path: 'stiffness_MPa', reason: 'the stiffness matrix must be symmetric' };
+    // Symmetric to rounding: make it exactly so (the Cholesky test refuses the last bit of asymmetry).
+    for (let i = 0; i < 6; i++) for (let j = i + 1; j < 6; j++) c[i * 6 + j] = c[j * 6 + i] = 0.5 * (c[i * 6 + j] + c[j * 6 + i]);
     if (!isPositiveDefinite(c, 6)) return { ok: false, path: 'stiffness_MPa', reason: 'the stiffness matrix is not positive definite: the strain energy would not be positive for every strain' };
     compliance = invertSquare(c, 6);
     alpha = [...m.alpha_per_degC];
@@ -44,7 +48,7 @@ export function compileMaterial(m: MaterialConfig): { ok: true; model: MaterialM
     model: {
       id: m.id,
       compliance,
-      alpha: Float64Array.from(alpha),
+      alpha: Float64Array.from({ length: 6 }, (_, k) => alpha[k] ?? 0),
       yieldMPa: m.yield_strength_MPa ?? Number.NaN,
       tensileMPa: m.tensile_strength_MPa ?? Number.NaN,
       compressiveMPa: m.compressive_strength_MPa ?? Number.NaN,

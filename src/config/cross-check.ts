@@ -43,6 +43,11 @@ export function crossCheck(c: StructureConfig): ValidationProblem[] {
   c.groups.forEach((grp, gi) => {
     const base = `groups[${gi}]`;
     if (!materials.has(grp.material)) add(`${base}.material`, `unknown material "${grp.material}"`);
+    const orientation = grp.kind === 'solid_cluster' ? 'material_rotation_deg' : 'material_angle_deg';
+    const material = c.materials[materials.get(grp.material) ?? -1];
+    if (material?.kind === 'isotropic' && (grp.kind === 'solid_cluster' ? grp.material_rotation_deg : grp.material_angle_deg) !== undefined) {
+      add(`${base}.${orientation}`, `material "${grp.material}" is isotropic: it is the same in every orientation, so ${orientation} would change nothing (remove it)`);
+    }
     grp.temperature_sensors.forEach((t, ti) => {
       if (!sensors.has(t)) add(`${base}.temperature_sensors[${ti}]`, `unknown temperature sensor "${t}"`);
     });

@@ -48,10 +48,27 @@ const common = {
   residual_limit_micro: renamedTo('fit_std_error_limit_micro', 'it compares the standard error of the fit (fit_std_error_micro), not the residual RMS'),
 };
 
+/**
+ * Plane and single groups: angle from the group's x axis to material axis 1, counter-clockwise
+ * about the surface normal z, degrees. Absent: material axes are the group's axes.
+ */
+const materialAngle = z.number().min(-360).max(360).optional();
+
+/**
+ * Solid clusters: the material axes are the group axes rotated about z, then about the new y, then
+ * about the newest x (intrinsic z-y'-x'' angles), degrees. Absent: material axes are the group's axes.
+ */
+const MaterialRotation = z.strictObject({
+  about_z: z.number().min(-360).max(360).default(0),
+  about_y: z.number().min(-360).max(360).default(0),
+  about_x: z.number().min(-360).max(360).default(0),
+});
+
 export const PlaneRosetteSchema = z.strictObject({
   ...common,
   kind: z.literal('plane_rosette'),
   elements: z.array(PlaneElement).min(3),
+  material_angle_deg: materialAngle,
 });
 
 export const SolidClusterSchema = z.strictObject({
@@ -60,6 +77,7 @@ export const SolidClusterSchema = z.strictObject({
   elements: z.array(SolidElement).min(6),
   /** Unstressed companion gauge in the same concrete: its strain is the free strain to subtract. */
   companion_gauge: IdSchema.optional(),
+  material_rotation_deg: MaterialRotation.optional(),
 });
 
 export const SingleGaugeSchema = z.strictObject({
@@ -68,6 +86,7 @@ export const SingleGaugeSchema = z.strictObject({
   /** Uniaxial stress along the gauge, taken as the group's x axis. */
   elements: z.array(z.strictObject({ gauge: IdSchema })).length(1),
   companion_gauge: IdSchema.optional(),
+  material_angle_deg: materialAngle,
 });
 
 export const GroupSchema = z.discriminatedUnion('kind', [PlaneRosetteSchema, SolidClusterSchema, SingleGaugeSchema]);

@@ -2,7 +2,9 @@ import { z } from 'zod';
 
 /**
  * Materials. Moduli in MPa, expansion coefficients in 1/degC, capacities in MPa.
- * Material axes 1, 2, 3 coincide with the axes x, y, z of every group that uses the material.
+ * Material axes 1, 2, 3 are the axes x, y, z of a group that uses the material, unless the group
+ * gives the material's orientation (`material_angle_deg` on plane and single groups,
+ * `material_rotation_deg` on solid clusters; src/config/compile-group.ts rotates the properties).
  */
 const id = z.string().min(1).regex(/^[A-Za-z0-9_.-]+$/, 'use letters, digits, "_", "-" or "."');
 const positive = z.number().positive();
@@ -48,7 +50,11 @@ export const AnisotropicMaterialSchema = z.strictObject({
   description: z.string().optional(),
   /** Full 6x6 stiffness in Voigt order xx, yy, zz, yz, xz, xy (engineering shear strains), MPa. */
   stiffness_MPa: z.tuple([row6, row6, row6, row6, row6, row6]),
-  alpha_per_degC: z.tuple([alphaPerDegC, alphaPerDegC, alphaPerDegC]),
+  /** Normal components (1, 2, 3), or all six in Voigt order with engineering shear (an expansion given in rotated axes). */
+  alpha_per_degC: z.union([
+    z.tuple([alphaPerDegC, alphaPerDegC, alphaPerDegC]),
+    z.tuple([alphaPerDegC, alphaPerDegC, alphaPerDegC, alphaPerDegC, alphaPerDegC, alphaPerDegC]),
+  ]),
   ...capacities,
 });
 

@@ -63,7 +63,7 @@ export interface GroupModel {
   stiffness: Float64Array;
   /** Plane groups: mechanical zz strain per unit in-plane stress (S31, S32, S36), 1/MPa. */
   zzCompliance: Float64Array;
-  /** Host free expansion per degC on the normal components present (2 plane, 3 solid, 1 uniaxial), 1/degC. */
+  /** Host free expansion per degC in the group's axes (plane xx, yy, xy; solid 6; uniaxial x), engineering shear, 1/degC. */
   hostAlpha: Float64Array;
   zeroTempC: number;
   /** residual_high when the fit's standard error exceeds this, microstrain. */

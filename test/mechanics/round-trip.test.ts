@@ -35,25 +35,25 @@ function vwGauge(id: string, ch: string, zero: number) {
   };
 }
 
-function planeDoc(material: { id: string }) {
+function planeDoc(material: { id: string }, orientation: Record<string, unknown> = {}) {
   const angles = [0, 60, 120, 30];
   // Two gauge batches (different gauge factors): elements share temperature terms only within a batch.
   const gauges = angles.map((_, i) => bridgeGauge(`g${i}`, `c${i}`, 0.01 * i, i % 2 === 0 ? 2.08 : 2.13));
   return baseDoc([{
     id: 'p', kind: 'plane_rosette', material: material.id, zone: 'z', location: 'bench',
-    elements: angles.map((a, i) => ({ gauge: `g${i}`, angle_deg: a })),
+    elements: angles.map((a, i) => ({ gauge: `g${i}`, angle_deg: a })), ...orientation,
   }], gauges, { materials: [material] });
 }
 
-function solidDoc(material: { id: string }, withCompanion: boolean) {
+function solidDoc(material: { id: string }, withCompanion: boolean, orientation: Record<string, unknown> = {}) {
   const dirs = [[1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, 0], [0, 1, 1], [1, 0, 1], [1, -1, 0.5]];
-  const gauges = dirs.map((_, i) => vwGauge(`v${i}`, `c${i}`, 780 + 5 * i));
+  const gauges: Record<string, unknown>[] = dirs.map((_, i) => vwGauge(`v${i}`, `c${i}`, 780 + 5 * i));
   // The companion's transverse sensitivity is part of its response to the free strain.
   if (withCompanion) gauges.push({ ...vwGauge('free', 'cf', 801), transverse_sensitivity: 0.02 });
   return baseDoc([{
     id: 's', kind: 'solid_cluster', material: material.id, zone: 'z', location: 'bench',
     elements: dirs.map((d, i) => ({ gauge: `v${i}`, direction: d })),
-    ...(withCompanion ? { companion_gauge: 'free' } : {}),
+    ...(withCompanion ? { companion_gauge: 'free' } : {}), ...orientation,
   }], gauges, { materials: [material] });
 }
 
@@ -88,6 +88,19 @@ describe('round trip stress -> readings -> stress', () => {
       }), { numRuns: 200 });
     });
   }
+
+  it('plane rosette on an orthotropic plate oriented at 35 degrees', () => {
+    fc.assert(fc.property(mpa(300), mpa(300), mpa(150), tempC, (sx, sy, txy, t) => {
+      expectStress(roundTrip(planeDoc(ORTHO, { material_angle_deg: 35 }), [sx, sy, txy], t, Number.NaN), [0, 1, 5], [sx, sy, txy]);
+    }), { numRuns: 200 });
+  });
+
+  it('solid cluster in an orthotropic block rotated z 25, y -40, x 70 degrees', () => {
+    fc.assert(fc.property(fc.array(mpa(4), { minLength: 6, maxLength: 6 }), tempC, (s, t) => {
+      const doc = solidDoc(ORTHO, false, { material_rotation_deg: { about_z: 25, about_y: -40, about_x: 70 } });
+      expectStress(roundTrip(doc, s, t, Number.NaN), [0, 1, 2, 3, 4, 5], s);
+    }), { numRuns: 200 });
+  });
 
   it('solid cluster with an unstressed companion gauge (free strain from shrinkage and temperature)', () => {
     fc.assert(fc.property(fc.array(mpa(15), { minLength: 6, maxLength: 6 }), tempC, fc.double({ min: -600, max: 300, noNaN: true }), (s, t, free) => {

@@ -10,6 +10,7 @@ import { loadStructureFile } from '../src/config/load.js';
 import { defaultScenario } from './default-scenario.js';
 import { captureSink, messagesFileSink, mqttSink, runSimulation, type ScanSink } from './outputs.js';
 import { createSimulation } from './run.js';
+import { describeRun, episodeSink, episodesOf } from './announce.js';
 import { CliOptionsSchema } from './cli-options.js';
 import { FAULT_KINDS } from './scenario.js';
 
@@ -23,6 +24,8 @@ const program = new Command('brannock-mere')
   .option('--rate-factor <x>', 'scan rates are the configured ones times this', '1')
   .option('--speed <x>', 'publish at this many scenario seconds per wall second; 0 = as fast as possible', '0')
   .option('--faults <list>', `comma list of ${FAULT_KINDS.join(', ')}; or all, none`, 'all')
+  .option('--heavy-at-s <list>', 'seconds from the start at which heavy vehicles enter, comma list, or none (default: one at mid-run)')
+  .option('--fault-at <list>', 'when faults happen: comma list of kind@start_s[-end_s], e.g. dropout@240-270,silent@480 (default: fractions of the run)')
   .option('--no-noise', 'exact readings (no noise, no quantisation)')
   .option('--broker <url>', 'publish to this MQTT broker (QoS 1), e.g. mqtt://127.0.0.1:1883')
   .option('--capture-dir <dir>', 'write the messages into a capture directory')
@@ -40,12 +43,15 @@ async function main(): Promise<number> {
   const structure = await loadStructureFile(o.config);
   const scn = defaultScenario({
     seed: o.seed, start_ms: o.start, duration_s: o.durationS, day_s: o.dayS, rate_factor: o.rateFactor, faults: o.faults, noise: o.noise,
+    heavy_at_s: o.heavyAtS, fault_times: o.faultAt,
   });
   const sim = createSimulation(structure, scn);
+  console.log(describeRun(scn, sim.faultLog, o.broker ?? o.captureDir ?? join(o.out, 'messages.ndjson'), o.speed, structure.structureId));
   const sinks: ScanSink[] = [];
+  if (o.speed > 0) sinks.push(episodeSink(scn, episodesOf(scn, sim.faultLog), (line) => console.log(line)));
   if (o.broker) sinks.push(await mqttSink(o.broker));
   if (o.captureDir) sinks.push(await captureSink(o.captureDir));
-  if (o.messages || sinks.length === 0) sinks.push(messagesFileSink(join(o.out, 'messages.ndjson')));
+  if (o.messages || !(o.broker || o.captureDir)) sinks.push(messagesFileSink(join(o.out, 'messages.ndjson')));
   const summary = await runSimulation(sim, scn, { outDir: o.out, sinks, speed: o.speed, now: () => Date.now(), sleep: (ms) => sleep(ms) });
   console.log(JSON.stringify({ ...summary, faults: sim.faultLog.map((f) => f.id), out: o.out }));
   return 0;

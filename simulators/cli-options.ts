@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import type { FaultTimes } from './default-scenario.js';
 import { FAULT_KINDS, type FaultKind } from './scenario.js';
 
 /** `--faults`: a comma list of fault kinds, or `all` / `none`. */
@@ -14,6 +15,33 @@ export const FaultListSchema = z.string().transform((s, ctx): FaultKind[] => {
   return kinds as FaultKind[];
 });
 
+/** `--heavy-at-s`: comma list of seconds from the start, or `none`. */
+export const SecondsListSchema = z.string().transform((s, ctx): number[] => {
+  if (s === 'none' || s === '') return [];
+  return s.split(',').map((part) => {
+    const v = Number(part.trim());
+    if (!Number.isFinite(v) || v < 0) ctx.addIssue({ code: 'custom', message: `"${part}" is not a number of seconds (0 or more)` });
+    return v;
+  });
+});
+
+/** `--fault-at`: comma list of `kind@start_s` or `kind@start_s-end_s`, e.g. `dropout@240-270,silent@480`. */
+export const FaultTimesSchema = z.string().transform((s, ctx): FaultTimes => {
+  const out: FaultTimes = {};
+  for (const part of s.split(',').map((p) => p.trim()).filter((p) => p !== '')) {
+    const m = /^([a-z_]+)@(\d+(?:\.\d+)?)(?:-(\d+(?:\.\d+)?))?$/.exec(part);
+    if (m === null || !(FAULT_KINDS as readonly string[]).includes(m[1])) {
+      ctx.addIssue({ code: 'custom', message: `"${part}": expected kind@start_s[-end_s] with kind one of ${FAULT_KINDS.join(', ')}` });
+      continue;
+    }
+    const start_s = Number(m[2]);
+    const end_s = m[3] === undefined ? undefined : Number(m[3]);
+    if (end_s !== undefined && end_s <= start_s) ctx.addIssue({ code: 'custom', message: `"${part}": the end must come after the start` });
+    out[m[1] as FaultKind] = end_s === undefined ? { start_s } : { start_s, end_s };
+  }
+  return out;
+});
+
 /** Options of simulators/brannock-mere.ts after commander (camel-cased, strings); zod checks and converts them. */
 export const CliOptionsSchema = z.strictObject({
   config: z.string().min(1),
@@ -25,6 +53,8 @@ export const CliOptionsSchema = z.strictObject({
   rateFactor: z.coerce.number().positive(),
   speed: z.coerce.number().min(0),
   faults: FaultListSchema,
+  heavyAtS: SecondsListSchema.optional(),
+  faultAt: FaultTimesSchema.optional(),
   noise: z.boolean(),
   broker: z.url({ protocol: /^mqtts?$|^wss?$/ }).optional(),
   captureDir: z.string().min(1).optional(),

@@ -15,12 +15,19 @@ export interface DefaultScenarioOptions {
   noise?: boolean;
   /** Traffic intensity, vehicles per minute (default 8). */
   vehicles_per_min?: number;
+  /** When heavy vehicles enter the deck, s from the start (default: one at mid-run). */
+  heavy_at_s?: readonly number[];
+  /** When each kind of fault happens, s from the start (default: fixed fractions of the run, see defaultFaults). */
+  fault_times?: FaultTimes;
 }
 
+/** A fault kind's window: start, and end for the kinds that end (drift and debonding go on to the end of the run). */
+export type FaultTimes = Partial<Record<FaultKind, { start_s: number; end_s?: number }>>;
+
 /** Fault specs of the standard scenario for a run of duration_s. */
-export function defaultFaults(duration_s: number, kinds: readonly FaultKind[] = FAULT_KINDS): FaultSpec[] {
+export function defaultFaults(duration_s: number, kinds: readonly FaultKind[] = FAULT_KINDS, times: FaultTimes = {}): FaultSpec[] {
   const at = (f: number) => Math.round(duration_s * f * 1000) / 1000;
-  const all: FaultSpec[] = [
+  const placed: FaultSpec[] = [
     { kind: 'debond', id: 'debond-rw-sp-c', gauge: 'rw-sp-c', start_s: at(0.15), drift_micro_per_h: 12 },
     { kind: 'dropout', id: 'dropout-span1-ch04', logger: 'lg-span1', channel: 'ch04', start_s: at(0.25), end_s: at(0.3) },
     { kind: 'spikes', id: 'spikes-pier-ch01', logger: 'lg-pier', channel: 'ch01', start_s: at(0.1), end_s: at(0.9), count: 8, magnitude: 0.25 },
@@ -28,6 +35,14 @@ export function defaultFaults(duration_s: number, kinds: readonly FaultKind[] = 
     { kind: 'clock_drift', id: 'clock-slab', logger: 'lg-slab', start_s: at(0.4), drift_ppm: 20000 },
     { kind: 'silent', id: 'silent-thermal', logger: 'lg-thermal', start_s: at(0.7), end_s: at(0.78) },
   ];
+  const all = placed.map((f): FaultSpec => {
+    const t = times[f.kind];
+    if (t === undefined) return f;
+    if (!('end_s' in f)) return { ...f, start_s: t.start_s };
+    const end_s = t.end_s ?? Math.min(duration_s, t.start_s + (f.end_s - f.start_s));
+    if (end_s <= t.start_s) throw new RangeError(`fault ${f.kind}: end ${end_s} s is not after its start ${t.start_s} s`);
+    return { ...f, start_s: t.start_s, end_s };
+  });
   return all.filter((f) => kinds.includes(f.kind));
 }
 
@@ -43,7 +58,7 @@ export function restraintWindow(start_ms: number, duration_s: number, day_s: num
   return { start_s: Math.round(duration_s * 0.1), end_s: Math.round(duration_s * 0.4) };
 }
 
-/** A complete scenario: daily cycle, traffic, one heavy vehicle at mid-run, a restraint episode (see restraintWindow), faults. */
+/** A complete scenario: daily cycle, traffic, heavy vehicles (default one at mid-run), a restraint episode (see restraintWindow), faults. */
 export function defaultScenario(o: DefaultScenarioOptions): Scenario {
   const d = o.duration_s;
   return parseScenario({
@@ -53,9 +68,9 @@ export function defaultScenario(o: DefaultScenarioOptions): Scenario {
     day_s: o.day_s ?? 86400,
     rate_factor: o.rate_factor ?? 1,
     traffic: { vehicles_per_min: o.vehicles_per_min ?? 8 },
-    heavy_vehicles: [{ at_s: Math.round(d * 0.5), gross_kN: 1000 }],
+    heavy_vehicles: (o.heavy_at_s ?? [Math.round(d * 0.5)]).map((at_s) => ({ at_s, gross_kN: 1000 })),
     restraint: { ...restraintWindow(o.start_ms, d, o.day_s ?? 86400), fraction: 0.35 },
-    faults: defaultFaults(d, o.faults ?? FAULT_KINDS),
+    faults: defaultFaults(d, o.faults ?? FAULT_KINDS, o.fault_times),
     noise: { enabled: o.noise ?? true },
   });
 }

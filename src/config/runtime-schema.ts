@@ -102,6 +102,23 @@ export const RuntimeConfigSchema = z.strictObject({
     state_file: z.string().min(1),
     log_file: z.string().min(1),
   }).default({ state_file: 'var/alarm-state.json', log_file: 'var/alarms.ndjson' }),
+  /**
+   * The live page served by the processor (absent: none). Beyond loopback it needs a token, read from
+   * the environment variable `token_env` or the file `token_file` (relative to this file), never from here.
+   */
+  live_page: z.strictObject({
+    host: z.string().min(1).default('127.0.0.1'),
+    /** 0: any free port (the address is printed and logged). */
+    port: z.number().int().min(0).max(65535).default(8480),
+    token_env: z.string().min(1).optional(),
+    token_file: z.string().min(1).optional(),
+    /** Length of each group's trend, seconds. */
+    trend_s: z.number().int().min(10).max(3600).default(300),
+    /** How often open pages are updated. */
+    push_every_ms: duration_ms.min(100).default(1000),
+    /** A line shown on top of the page, e.g. that the data is simulated. */
+    notice: z.string().min(1).max(500).optional(),
+  }).optional(),
   /** Pipeline clock tick: drives waits, no-data detection and escalation. */
   tick_ms: duration_ms.default(1000),
 });

@@ -11,6 +11,11 @@ export const QUALITY_FLAGS = [
   'residual_high', // redundant group: least-squares residual above the group's limit
   'companion_missing', // the unstressed companion gauge had no reading
   'underdetermined', // too few elements left to determine the strain state: no result values
+  // Instrument health of the readings, decided before the result is released (pipeline/channel-screen.ts).
+  // Appended after the evaluator's bits so stored quality_bits keep their meaning.
+  'reading_spike', // an element or companion reading was a spike: an excursion that came back at once
+  'reading_suspect', // such an excursion had not been judged when the wait for the next readings ran out
+  'reading_flatline', // an element or companion channel has not changed over the flat-line window
 ] as const;
 
 export type QualityFlag = (typeof QUALITY_FLAGS)[number];

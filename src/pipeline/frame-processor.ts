@@ -1,11 +1,25 @@
 import type { CompiledGroup, CompiledStructure, TemperatureChannel } from '../config/compile.js';
 import { BIT_TEMPERATURE_MISSING, BIT_TEMPERATURE_STALE, evaluateGroup } from '../mechanics/evaluate-group.js';
 import { createGroupOutput, type GroupOutput } from '../mechanics/group-model.js';
+import { qualityBit } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
 import type { GroupResult } from '../model/result.js';
 import { toGroupResult } from '../results/group-result.js';
 import { groupTemperatureAt, groupWaitsForTemperature, type GroupTemperature } from './group-join.js';
 import { TemperatureHistory } from './temperature-history.js';
+import { CHANNEL_FLATLINE, CHANNEL_HELD, CHANNEL_SPIKE, ChannelScreen, type FrameScreen } from './channel-screen.js';
+
+const BIT_READING_SPIKE = qualityBit('reading_spike');
+const BIT_READING_SUSPECT = qualityBit('reading_suspect');
+const BIT_READING_FLATLINE = qualityBit('reading_flatline');
+
+/** A frame waiting: for temperature, or for the readings that judge one of its excursions. */
+interface HeldFrame<M> {
+  frame: LoggerFrame;
+  message: M;
+  temperatures: Record<string, number>;
+  screen: FrameScreen | null;
+}
 
 /** A frame with everything computed from it: the unit that is written, then acknowledged. */
 export interface ProcessedFrame<M> {
@@ -33,6 +47,10 @@ export interface FrameProcessorCounts {
   heldFrames: number;
   temperatureRejected: number;
   forcedReleases: number;
+  /** Frames held for the readings after an excursion (spike or real change?). */
+  heldForScreen: number;
+  /** Frames released with an excursion still unjudged (flagged reading_suspect). */
+  screenTimeouts: number;
 }
 
 /** Most frames one logger may have waiting for temperature; beyond, the oldest is computed at once. */
@@ -40,19 +58,23 @@ export const MAX_HELD_PER_LOGGER = 20_000;
 
 /**
  * The pipeline's stateful core, free of RxJS and I/O: temperature histories per sensor, held frames
- * per logger, evaluator workspaces per group. All state is keyed (sensor, logger, group), so a
+ * per logger, evaluator workspaces per group, and the instrument-health screen of the readings
+ * (channel-screen.ts): a frame with an excursion waits, boundedly, for the readings that tell a
+ * spike from a real change, and its results carry the verdict in their flags. All state is keyed (sensor, logger, group), so a
  * structure's groups can later be split across processes by key. Time comes only from the inputs:
  * `clockMs` is the pipeline clock (latest arrival or tick), never the wall clock.
  */
 export class FrameProcessor<M> {
-  readonly counts: FrameProcessorCounts = { frames: 0, results: 0, withheldResults: 0, heldFrames: 0, temperatureRejected: 0, forcedReleases: 0 };
+  readonly counts: FrameProcessorCounts = { frames: 0, results: 0, withheldResults: 0, heldFrames: 0, temperatureRejected: 0, forcedReleases: 0, heldForScreen: 0, screenTimeouts: 0 };
   private readonly histories = new Map<string, TemperatureHistory>();
   private readonly groups = new Map<string, GroupRuntime>();
-  private readonly held = new Map<string, Array<{ frame: LoggerFrame; message: M; temperatures: Record<string, number> }>>();
+  private readonly held = new Map<string, Array<HeldFrame<M>>>();
+  private readonly screen: ChannelScreen;
   /** Logger id -> channel id -> sensor (nested, so no key string is built per reading). */
   private readonly sensorsByChannel = new Map<string, Map<string, TemperatureChannel>>();
 
   constructor(private readonly structure: CompiledStructure) {
+    this.screen = new ChannelScreen(structure);
     for (const t of structure.temperatureSensors.values()) {
       let byChannel = this.sensorsByChannel.get(t.loggerId);
       if (byChannel === undefined) this.sensorsByChannel.set(t.loggerId, (byChannel = new Map()));
@@ -71,24 +93,27 @@ export class FrameProcessor<M> {
   onFrame(frame: LoggerFrame, message: M, clockMs: number): ProcessedFrame<M>[] {
     this.counts.frames++;
     const temperatures = this.takeTemperatures(frame);
+    // Instrument health of the readings first: this frame may judge an earlier one's excursion.
+    const screen = this.screen.screen(frame);
     const done: ProcessedFrame<M>[] = [];
     // Release first whatever this moment frees (waits run out on the clock, new temperature), so a
     // held frame is computed before any message that arrived after its deadline, live and in replay.
     this.releaseReady(clockMs, done);
     const queue = this.held.get(frame.loggerId);
-    if ((queue && queue.length > 0) || this.mustWait(frame, clockMs)) {
+    const entry: HeldFrame<M> = { frame, message, temperatures, screen };
+    if ((queue && queue.length > 0) || this.mustWait(entry, clockMs)) {
       const q = queue ?? [];
-      q.push({ frame, message, temperatures });
+      q.push(entry);
       this.held.set(frame.loggerId, q);
       this.counts.heldFrames++;
+      if (screen !== null && screen.held > 0) this.counts.heldForScreen++;
       if (q.length > MAX_HELD_PER_LOGGER) {
         this.counts.forcedReleases++;
-        const oldest = q.shift()!;
-        done.push(this.compute(oldest.frame, oldest.message, oldest.temperatures));
+        done.push(this.compute(q.shift()!));
       }
       this.releaseReady(clockMs, done);
     } else {
-      done.push(this.compute(frame, message, temperatures));
+      done.push(this.compute(entry));
     }
     return done;
   }
@@ -107,16 +132,16 @@ export class FrameProcessor<M> {
 
   private releaseReady(clockMs: number, done: ProcessedFrame<M>[]): void {
     for (const q of this.held.values()) {
-      while (q.length > 0 && !this.mustWait(q[0].frame, clockMs)) {
-        const h = q.shift()!;
-        done.push(this.compute(h.frame, h.message, h.temperatures));
-      }
+      while (q.length > 0 && !this.mustWait(q[0], clockMs)) done.push(this.compute(q.shift()!));
     }
   }
 
-  private mustWait(frame: LoggerFrame, clockMs: number): boolean {
+  private mustWait(h: HeldFrame<M>, clockMs: number): boolean {
+    const frame = h.frame;
     const groups = this.structure.groupsByLogger.get(frame.loggerId);
     if (!groups) return false;
+    // A bounded wait for the readings that tell a spike from a real change (pipeline clock).
+    if (h.screen !== null && h.screen.held > 0 && clockMs < frame.arrivalMs + this.screen.maxWaitMs(frame.loggerId)) return true;
     return groups.some((g) => groupWaitsForTemperature(g, this.histories, frame.timeMs, frame.arrivalMs, clockMs));
   }
 
@@ -139,7 +164,9 @@ export class FrameProcessor<M> {
     return accepted;
   }
 
-  private compute(frame: LoggerFrame, message: M, temperatures: Record<string, number>): ProcessedFrame<M> {
+  private compute(h: HeldFrame<M>): ProcessedFrame<M> {
+    const { frame, message, temperatures, screen } = h;
+    if (screen !== null && screen.held > 0) this.counts.screenTimeouts++;
     const results: GroupResult[] = [];
     for (const g of this.structure.groupsByLogger.get(frame.loggerId) ?? []) {
       const rt = this.groups.get(g.config.id)!;
@@ -150,7 +177,7 @@ export class FrameProcessor<M> {
       }
       const comp = g.companion ? frame.values.get(g.companion.channelId) : undefined;
       const t = groupTemperatureAt(g, this.histories, frame.timeMs, rt.temperature);
-      let extra = t.stale ? BIT_TEMPERATURE_STALE : 0;
+      let extra = (t.stale ? BIT_TEMPERATURE_STALE : 0) | (screen === null ? 0 : screenBits(g, screen));
       if (Number.isNaN(t.valueC) && g.config.temperature.withhold_when_missing) {
         // Configured to withhold: no stress without temperature, but the frame is counted and flagged.
         rt.withheld++;
@@ -169,4 +196,13 @@ export class FrameProcessor<M> {
     }
     return { frame, message, results, temperatures };
   }
+}
+
+/** Quality bits of a group from what the screen found in its element and companion readings. */
+function screenBits(g: CompiledGroup, screen: FrameScreen): number {
+  let b = 0;
+  for (const ch of g.elementChannels) b |= screen.bits.get(ch) ?? 0;
+  if (g.companion !== null && g.companion.loggerId === g.loggerId) b |= screen.bits.get(g.companion.channelId) ?? 0;
+  return ((b & CHANNEL_SPIKE) !== 0 ? BIT_READING_SPIKE : 0) | ((b & CHANNEL_HELD) !== 0 ? BIT_READING_SUSPECT : 0)
+    | ((b & CHANNEL_FLATLINE) !== 0 ? BIT_READING_FLATLINE : 0);
 }

@@ -14,6 +14,10 @@ export const FLAG_HEALTH_CHECK: Readonly<Record<QualityFlag, HealthCheck>> = {
   residual_high: 'residual_high',
   companion_missing: 'result_incomplete',
   underdetermined: 'result_incomplete',
+  // The channel's own spike and flat-line alarms explain these (raised from the same readings).
+  reading_spike: 'spike',
+  reading_suspect: 'spike',
+  reading_flatline: 'flatline',
 };
 
 const FLAG_CHECKS = ['residual_high', 'temperature_stale', 'result_incomplete'] as const;

@@ -54,6 +54,11 @@ export const HealthConfigSchema = z.strictObject({
    * because temperature is joined to strain by the loggers' timestamps.
    */
   clock_offset: z.strictObject({ ...common, ahead_s: Positive.default(2), behind_s: Positive.default(300) }).prefault({}),
+  /**
+   * A logger whose scan counter (`seq`) restarted (went back or stayed while its time went on) more
+   * than max_per_hour times in the last hour: reboots, a failing power supply or unit.
+   */
+  sequence_restart: z.strictObject({ ...common, max_per_hour: z.number().int().min(0).default(2) }).prefault({}),
   /** A result flagged residual_high (redundant group does not fit a strain state). */
   residual_high: z.strictObject(common).prefault({}),
   /** A result flagged temperature_stale or temperature_missing. */
@@ -73,6 +78,7 @@ export const HEALTH_CHECKS = [
   'spike',
   'out_of_range',
   'clock_offset',
+  'sequence_restart',
   'residual_high',
   'temperature_stale',
   'result_incomplete',

@@ -1,5 +1,6 @@
 import type { GroupResult } from '../model/result.js';
 import type { LoggerFrame } from '../model/raw-message.js';
+import type { Rejection } from '../model/rejection.js';
 
 /** Time passing, from the injected clock (epoch ms): drives no-data, escalation. */
 export interface Tick {
@@ -29,13 +30,27 @@ export interface ComponentFault {
   atMs: number;
 }
 
+/**
+ * A logger's message the decoder refused (it is dead-lettered, never data): evidence about the
+ * logger all the same, e.g. a scan dated ahead of the processor's clock says its clock is wrong.
+ */
+export interface RefusedMessage {
+  type: 'refused';
+  loggerId: string;
+  /** The logger's timestamp when it could be read, epoch ms; else null. */
+  timeMs: number | null;
+  arrivalMs: number;
+  codes: readonly Rejection['code'][];
+}
+
 /** Everything the alarm engine consumes; each carries its own time. */
 export type AlarmInput =
   | { type: 'result'; result: GroupResult }
   | { type: 'frame'; frame: LoggerFrame }
   | Tick
   | Ack
-  | ComponentFault;
+  | ComponentFault
+  | RefusedMessage;
 
 /** What the engine needs to know of a group (from the structure configuration). */
 export interface GroupInfo {

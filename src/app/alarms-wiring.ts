@@ -1,6 +1,6 @@
-import { concatMap, connectable, filter, map, merge, Subject, takeUntil, tap, type Observable, type Subscription } from 'rxjs';
+import { concat, concatMap, connectable, from, filter, map, merge, Subject, takeUntil, tap, type Observable, type Subscription } from 'rxjs';
 import {
-  alarmBatches, createAlarmEngine, loadSnapshot, saveSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
+  alarmBatches, saveSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
 import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, TransitionKind } from '../alarms/types.js';
@@ -8,6 +8,7 @@ import { redactUrl } from '../adapters/secret.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 
+import { openAlarmState, type AlarmStateDeps } from './alarm-state-file.js';
 /** An acknowledgement command as decoded at the MQTT boundary (`parseAckPayload`'s result). */
 export type AckEvent = { ok: true; ack: Ack } | { ok: false; refusal: AckRefusal };
 
@@ -28,6 +29,8 @@ export interface AlarmWiringDeps {
   /** Engine state from a previous run (`loadSnapshot`), restored at subscription. */
   snapshotJson?: string;
   /** Snapshot file, rewritten after every batch (absent: not persisted). */
+  /** Inputs taken before any other (the operations alarm of a reset state, from `openAlarmFiles`). */
+  startInputs?: readonly AlarmInput[];
   snapshotPath?: string;
   /** Where `sw_alarm` points go (not closed by the wiring: it is usually shared). */
   sink?: PointWriter;
@@ -79,25 +82,21 @@ export function toAlarmInputs(output: FrameOutput<unknown>): AlarmInput[] {
   if (output.kind === 'tick') return [{ type: 'tick', nowMs: output.nowMs }];
   // Health sees the frame on arrival; its results follow once computed (they may wait for temperature).
   if (output.kind === 'received') return [{ type: 'frame', frame: output.frame }];
+  /** Per logger: scans whose `seq` went back or repeated, and counter restarts among them. */
+  sequences: Record<string, { backwards: number; repeated: number; restarts: number }>;
   return output.results.map((result): AlarmInput => ({ type: 'result', result }));
 }
 
 /**
- * Opens what the alarms keep on disk: the engine snapshot (checked now, so a damaged file stops the
- * start instead of silencing the alarms later) and the alarm log (opened for appending).
+ * Opens what the alarms keep on disk: the engine snapshot (`openAlarmState`: a snapshot that cannot
+ * be read is kept aside and the state reset, with an operations alarm) and the alarm log (opened
+ * for appending).
  */
 export async function openAlarmFiles(
-  cfg: AlarmsConfig, lookups: AlarmLookups, snapshotPath: string, logPath: string,
-): Promise<{ snapshotPath: string; snapshotJson?: string; log: AlarmLog }> {
-  const snapshotJson = (await loadSnapshot(snapshotPath)) ?? undefined;
-  if (snapshotJson !== undefined) {
-    try {
-      createAlarmEngine(cfg, lookups, snapshotJson);
-    } catch (err) {
-      throw new Error(`alarm state file ${snapshotPath} cannot be restored: ${err instanceof Error ? err.message : String(err)}`);
-    }
-  }
-  return { snapshotPath, snapshotJson, log: await openAlarmLog(logPath) };
+  cfg: AlarmsConfig, lookups: AlarmLookups, snapshotPath: string, logPath: string, deps: AlarmStateDeps,
+): Promise<{ snapshotPath: string; snapshotJson?: string; startInputs: AlarmInput[]; log: AlarmLog }> {
+  const state = await openAlarmState(cfg, lookups, snapshotPath, logPath, deps);
+  return { snapshotPath, ...state, log: await openAlarmLog(logPath) };
 }
 
 type Item = { kind: 'input'; input: AlarmInput } | { kind: 'refusal'; refusal: AckRefusal };
@@ -116,7 +115,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
   const report = (event: string, err: unknown): void => { try { deps.onError?.(event, err); } catch { /* reporting must not stop alarms */ } };
   const c: AlarmCounts = {
     inputs: 0, batches: 0, transitions: Object.fromEntries(TRANSITION_KINDS.map((k) => [k, 0])) as Record<TransitionKind, number>,
-    refusals: 0, deliveries: { delivered: 0, failed: 0 }, active: 0, visible: 0, errors: { snapshot: 0, points: 0, log: 0, stream: 0 },
+    refusals: 0, deliveries: { delivered: 0, failed: 0 }, active: 0, visible: 0, errors: { snapshot: 0, points: 0, log: 0, stream: 0 }, sequences: {},
   };
   const recorded: RecordedSend[] = [];
   const log = deps.log === undefined ? undefined : guardedLog(deps.log, (err) => { c.errors.log++; report('alarm_log_failed', err); });
@@ -166,11 +165,11 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
 
   let engine: AlarmEngine | undefined;
   const closing$ = new Subject<void>();
-  const items$ = connectable(merge(
+  const items$ = connectable(concat(from(deps.startInputs ?? []).pipe(map((input): Item => ({ kind: 'input', input }))), merge(
     processed$.pipe(concatMap((o) => toAlarmInputs(o).map((input): Item => ({ kind: 'input', input })))),
     acks$.pipe(map((e): Item => (e.ok ? { kind: 'input', input: e.ack } : { kind: 'refusal', refusal: e.refusal }))),
     ...(deps.componentFaults$ === undefined ? [] : [deps.componentFaults$.pipe(map((input): Item => ({ kind: 'input', input })))]),
-  ).pipe(takeUntil(closing$)), { connector: () => new Subject<Item>(), resetOnDisconnect: false });
+  )).pipe(takeUntil(closing$)), { connector: () => new Subject<Item>(), resetOnDisconnect: false });
   const batches$ = items$.pipe(
     filter((i): i is Extract<Item, { kind: 'input' }> => i.kind === 'input'),
     tap(() => { c.inputs++; }),
@@ -223,4 +222,5 @@ function guardedLog(log: AlarmLog, failed: (err: unknown) => void): AlarmLog {
 function guardedSink(sink: PointWriter, tags: Readonly<Record<string, string>> | undefined, failed: (err: unknown) => void): PointWriter {
   const tagged = (p: Point): Point => (tags === undefined ? p : { ...p, tags: { ...p.tags, ...tags } });
   return { write: (points) => sink.write(points.map(tagged)).catch(failed) };
+        sequences: engine?.sequenceCounts() ?? {},
 }

@@ -65,7 +65,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const commandTopic = alarmsCfg === null ? null : ackTopic(alarmsCfg, structure.structureId);
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
-    : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file));
+    : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   const statusTopic = presenceTopic(rc.presence.topic, structure.structureId, rc.mqtt.client_id);

@@ -9,7 +9,8 @@ export interface Rejection {
     | 'unknown_logger'
     | 'unknown_channel'
     | 'non_finite_value'
-    | 'invalid_timestamp';
+    | 'invalid_timestamp'
+    | 'future_timestamp';
   /** Path into the payload, e.g. `values.ch07`; empty for the whole message. */
   path: string;
   /** Human-readable reason naming the field. */

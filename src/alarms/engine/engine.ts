@@ -7,8 +7,11 @@ import type { EngineContext } from './evaluate.js';
 import { evaluateComponent } from './component-health.js';
 import { evaluateFlags } from './health-flags.js';
 import { evaluateFrame } from './health-channels.js';
+import { evaluateRefused } from './clock-health.js';
+import { evaluateSequence } from './sequence-health.js';
 import { HEALTH_CHECKS } from '../schema.js';
-import { newEngineState, parseState, serialiseState, type EngineState } from './state.js';
+import { newEngineState, type EngineState } from './state.js';
+import { parseState, serialiseState } from './state-migration.js';
 import { compileRules, evaluateStructural } from './structural.js';
 import { evaluateSilence } from './watchdog.js';
 
@@ -26,6 +29,8 @@ export interface AlarmEngine {
   snapshot(): string;
   /** Every alarm not yet closed (active, or cleared but unacknowledged), copies. */
   visibleAlarms(): Alarm[];
+  /** Per logger: scans whose `seq` went back or repeated, and counter restarts among them (since the state began). */
+  sequenceCounts(): Record<string, { backwards: number; repeated: number; restarts: number }>;
 }
 
 /**
@@ -55,9 +60,14 @@ export function createAlarmEngine(cfg: AlarmsConfig, lookups: AlarmLookups, snap
         if (r.flags.length === 0) transitions.push(...evaluateStructural(ctx, rules, r));
         return { transitions, refusals: [] };
       }
-      case 'frame':
-        if (input.frame.structureId !== lookups.structureId) return { transitions: [], refusals: [] };
-        return { transitions: evaluateFrame(ctx, input.frame), refusals: [] };
+      case 'frame': {
+        const f = input.frame;
+        const logger = lookups.loggers.get(f.loggerId);
+        if (f.structureId !== lookups.structureId || logger === undefined) return { transitions: [], refusals: [] };
+        return { transitions: [...evaluateFrame(ctx, f), ...evaluateSequence(ctx, f, logger)], refusals: [] };
+      }
+      case 'refused':
+        return { transitions: evaluateRefused(ctx, input), refusals: [] };
       case 'tick': {
         const transitions = evaluateSilence(ctx, input.nowMs);
         transitions.push(...escalate(state, input.nowMs, escalateAfterMs, tiers));
@@ -76,6 +86,8 @@ export function createAlarmEngine(cfg: AlarmsConfig, lookups: AlarmLookups, snap
     step,
     snapshot: () => serialiseState(state),
     visibleAlarms: () => Object.values(state.alarms).map((a) => structuredClone(a)),
+    sequenceCounts: () => Object.fromEntries(Object.entries(state.sequences)
+      .map(([id, s]) => [id, { backwards: s.backwards, repeated: s.repeated, restarts: s.restarts }])),
   };
 }
 

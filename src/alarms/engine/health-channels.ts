@@ -5,6 +5,7 @@ import { healthDescriptor, healthEvaluation } from './health-common.js';
 import { hampelStep } from './hampel.js';
 import { flatlineStep, newFlatline, resetFlatline } from './flatline.js';
 import { silence, silenceLimitMs } from './no-data.js';
+import { evaluateClock } from './clock-health.js';
 
 /**
  * Per-channel health for one logger frame: missing readings, out-of-range, spikes (Hampel),
@@ -20,15 +21,7 @@ export function evaluateFrame(ctx: EngineContext, f: LoggerFrame): AlarmTransiti
       logger.zone, logger.location, 'silence_s', 's');
     out.push(...evaluate(ctx, d, healthEvaluation(ctx, 'no_data', false, f.arrivalMs, 0, null)));
   }
-  const clock = ctx.cfg.health.clock_offset;
-  if (clock.enabled) {
-    const offsetS = (f.timeMs - f.arrivalMs) / 1000;
-    const ahead = offsetS > clock.ahead_s;
-    const d = healthDescriptor(ctx, 'clock_offset', `l:${f.loggerId}`, { kind: 'logger', loggerId: f.loggerId },
-      logger.zone, logger.location, 'clock_offset_s', 's');
-    out.push(...evaluate(ctx, d, healthEvaluation(ctx, 'clock_offset', ahead || offsetS < -clock.behind_s, f.arrivalMs, offsetS,
-      ahead ? clock.ahead_s : -clock.behind_s)));
-  }
+  out.push(...evaluateClock(ctx, f.loggerId, logger, f.timeMs, f.arrivalMs));
   for (const [channelId, ch] of logger.channels) {
     out.push(...evaluateChannel(ctx, f, logger, channelId, ch, f.values.get(channelId)));
   }

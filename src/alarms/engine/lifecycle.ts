@@ -31,8 +31,9 @@ export interface ConditionSample {
 
 const copy = (a: Alarm): Alarm => structuredClone(a);
 
-function newAlarm(structureId: string, d: AlarmDescriptor, ks: KeyState, s: ConditionSample): Alarm {
-  ks.seq += 1;
+function newAlarm(structureId: string, idFloor: number, d: AlarmDescriptor, ks: KeyState, s: ConditionSample): Alarm {
+  // Above the floor: after a reset of the state, numbers restart past every one used before.
+  ks.seq = Math.max(ks.seq, idFloor) + 1;
   const level = s.level!;
   return {
     id: `${structureId}:${d.ruleId}:${d.subjectKey}:${ks.seq}`,
@@ -59,7 +60,7 @@ export function applyCondition(
   const alarm = state.alarms[d.key];
   if (alarm === undefined && s.level === null) return [];
   if (alarm === undefined) {
-    const a = newAlarm(structureId, d, ks, s);
+    const a = newAlarm(structureId, state.idFloor, d, ks, s);
     state.alarms[d.key] = a;
     if (raiseIsFlapping(ks, s.atMs, flapping)) {
       a.flapping = true;

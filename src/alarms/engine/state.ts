@@ -1,9 +1,9 @@
-import { z } from 'zod';
 import type { Alarm } from '../types.js';
 import type { DebounceState } from './debounce.js';
 import type { SampleWindow } from './sample-window.js';
 import type { HampelState } from './hampel.js';
 import type { FlatlineState } from './flatline.js';
+import type { SequenceState } from './sequence.js';
 
 /** Everything remembered for one (rule or check, subject) key. Plain JSON. */
 export interface KeyState {
@@ -22,9 +22,21 @@ export interface KeyState {
   flatline?: FlatlineState;
 }
 
+/** Name of the snapshot format, written in every snapshot so a stray JSON file is never taken for one. */
+export const SNAPSHOT_FORMAT = 'strainward.alarm-state';
+/** Version written; `state-migration.ts` reads every earlier one. */
+export const SNAPSHOT_VERSION = 2;
+
 /** The whole engine state: what a snapshot holds. */
 export interface EngineState {
-  version: 1;
+  format: typeof SNAPSHOT_FORMAT;
+  version: typeof SNAPSHOT_VERSION;
+  /**
+   * Alarm numbers (the n in alarm ids) of this state start above this: 0 for a first start, the
+   * wall-clock seconds of the reset when a state that could not be read was replaced, so a new
+   * alarm never takes the id of one raised before (see `openAlarmState` in src/app/alarm-state-file.ts).
+   */
+  idFloor: number;
   /** First tick seen: a logger never heard from is silent since then. */
   startMs: number | null;
   keys: Record<string, KeyState>;
@@ -34,86 +46,13 @@ export interface EngineState {
   loggerLastMs: Record<string, number>;
   /** Last usable reading per `logger/channel`, logger time, epoch ms. */
   channelLastMs: Record<string, number>;
+  /** Scan counter (`seq`) of each logger that sends one. */
+  sequences: Record<string, SequenceState>;
 }
 
-export function newEngineState(): EngineState {
-  return { version: 1, startMs: null, keys: {}, alarms: {}, loggerLastMs: {}, channelLastMs: {} };
-}
-
-const Num = z.number();
-const NullNum = z.number().nullable();
-const Window = z.strictObject({ tMs: z.array(Num), v: z.array(Num) });
-
-const KeyStateSchema = z.strictObject({
-  debounce: z.strictObject({ confirmed: z.number().int(), aboveSinceMs: z.array(NullNum), belowSinceMs: z.array(NullNum) }),
-  prevRaw: z.number().int(),
-  seq: z.number().int(),
-  clearsMs: z.array(Num),
-  quietSinceMs: NullNum,
-  trend: Window.optional(),
-  rate: Window.optional(),
-  hampel: z.strictObject({ window: z.array(Num) }).optional(),
-  flatline: z
-    .strictObject({ runStartMs: NullNum, minT: z.array(Num), minV: z.array(Num), maxT: z.array(Num), maxV: z.array(Num) })
-    .optional(),
-});
-
-const SubjectSchema = z.discriminatedUnion('kind', [
-  z.strictObject({ kind: z.literal('group'), groupId: z.string() }),
-  z.strictObject({ kind: z.literal('channel'), loggerId: z.string(), channelId: z.string(), groupId: z.string().nullable() }),
-  z.strictObject({ kind: z.literal('logger'), loggerId: z.string() }),
-]);
-
-export const AlarmSchema = z.strictObject({
-  id: z.string(),
-  key: z.string(),
-  structureId: z.string(),
-  zone: z.string(),
-  alarmClass: z.enum(['structural', 'health']),
-  ruleId: z.string(),
-  subject: SubjectSchema,
-  location: z.string(),
-  quantity: z.string(),
-  value: NullNum,
-  limit: NullNum,
-  units: z.string(),
-  level: z.string(),
-  levelIndex: z.number().int(),
-  state: z.enum(['active_unacknowledged', 'active_acknowledged', 'cleared_unacknowledged', 'closed']),
-  sinceMs: Num,
-  lastChangeMs: Num,
-  trendPerS: NullNum,
-  action: z.string(),
-  raiseCount: z.number().int(),
-  repeatCount: z.number().int(),
-  tier: z.number().int(),
-  tierSinceMs: Num,
-  flapping: z.boolean(),
-  suppressedCount: z.number().int(),
-  acknowledgement: z.strictObject({ user: z.string(), reason: z.string(), atMs: Num }).nullable(),
-});
-
-/** Schema of a snapshot file: a restored snapshot is checked before the engine trusts it. */
-export const EngineStateSchema = z.strictObject({
-  version: z.literal(1),
-  startMs: NullNum,
-  keys: z.record(z.string(), KeyStateSchema),
-  alarms: z.record(z.string(), AlarmSchema),
-  loggerLastMs: z.record(z.string(), Num),
-  channelLastMs: z.record(z.string(), Num),
-});
-
-/** Serialise (a deep copy as JSON text). */
-export function serialiseState(state: EngineState): string {
-  return JSON.stringify(state);
-}
-
-/** Parse and check a snapshot; throws an Error naming the first bad field. */
-export function parseState(json: string): EngineState {
-  const parsed = EngineStateSchema.safeParse(JSON.parse(json));
-  if (!parsed.success) {
-    const first = parsed.error.issues[0];
-    throw new Error(`alarm snapshot invalid at ${first.path.join('.') || '(root)'}: ${first.message}`);
-  }
-  return parsed.data as EngineState;
+export function newEngineState(idFloor = 0): EngineState {
+  return {
+    format: SNAPSHOT_FORMAT, version: SNAPSHOT_VERSION, idFloor, startMs: null,
+    keys: {}, alarms: {}, loggerLastMs: {}, channelLastMs: {}, sequences: {},
+  };
 }

@@ -2,6 +2,7 @@ import type { ChannelDirectory } from '../model/channel-directory.js';
 import type { LoggerFrame, RawMessage } from '../model/raw-message.js';
 import type { DeadLetter, Rejection } from '../model/rejection.js';
 import { toDeadLetter } from './dead-letter-record.js';
+import { jsonShapeProblem, MAX_JSON_DEPTH } from './json-guard.js';
 import { parseLoggerTimestamp, schemaFor } from './payload-schema.js';
 import { parseTopic, type TopicPattern } from './topic.js';
 
@@ -9,7 +10,8 @@ export type DecodeResult = { ok: true; frame: LoggerFrame } | { ok: false; deadL
 
 type Issue = { code: string; path: PropertyKey[]; message: string; keys?: string[] };
 
-const strictUtf8 = new TextDecoder('utf-8', { fatal: true });
+// ignoreBOM: keep a byte-order mark in the text, so it is refused instead of silently skipped.
+const strictUtf8 = new TextDecoder('utf-8', { fatal: true, ignoreBOM: true });
 const NON_FINITE_TEXT = /^\s*[+-]?(nan|inf|infinity)\s*$/i;
 
 /**
@@ -99,20 +101,42 @@ function knownLogger(topic: string, directory: ChannelDirectory, pattern: TopicP
   return match.loggerId;
 }
 
+/**
+ * Largest payload decoded, bytes. A 32-channel scan is about 1 KB and a 1,000-channel one about
+ * 30 KB; far larger is a fault (or an attack) and is refused before it is parsed.
+ */
+export const MAX_PAYLOAD_BYTES = 256 * 1024;
+
 function parseJson(payload: Uint8Array): { ok: true; value: unknown } | { ok: false; rejection: Rejection } {
-  const fail = (reason: string) => ({ ok: false as const, rejection: { code: 'not_json' as const, path: '', reason } });
+  const fail = (reason: string, code: Rejection['code'] = 'not_json') => ({ ok: false as const, rejection: { code, path: '', reason } });
   if (payload.byteLength === 0) return fail('payload is empty');
+  if (payload.byteLength > MAX_PAYLOAD_BYTES) {
+    return fail(`payload is ${payload.byteLength} bytes, over the ${MAX_PAYLOAD_BYTES}-byte limit of a logger message`, 'invalid_payload');
+  }
+  // The decoder would drop a byte-order mark silently; a logger that sends one is misconfigured.
+  if (payload[0] === 0xef && payload[1] === 0xbb && payload[2] === 0xbf) return fail('payload starts with a UTF-8 byte-order mark (EF BB BF): send the JSON without it');
   let text: string;
   try {
     text = strictUtf8.decode(payload);
   } catch {
     return fail('payload is not valid UTF-8 text');
   }
+  let value: unknown;
   try {
-    return { ok: true, value: JSON.parse(text) };
+    value = JSON.parse(text);
   } catch (e) {
     return fail(`payload is not valid JSON: ${(e as Error).message}`);
   }
+  // Only objects can hide a duplicate key or nest; a scan is an object, so this runs on every good message.
+  if (typeof value === 'object' && value !== null) {
+    const problem = jsonShapeProblem(text);
+    if (problem?.kind === 'duplicate_key') {
+      const where = problem.path === '' ? problem.key : `${problem.path}.${problem.key}`;
+      return { ok: false, rejection: { code: 'invalid_payload', path: where, reason: `${where}: key given twice (JSON would keep only the last)` } };
+    }
+    if (problem?.kind === 'too_deep') return fail(`payload nests deeper than ${MAX_JSON_DEPTH} levels`, 'invalid_payload');
+  }
+  return { ok: true, value };
 }
 
 function isRecord(v: unknown): v is Record<string, unknown> {

@@ -1,0 +1,73 @@
+/**
+ * Checks on a payload's JSON text that JSON.parse does not make: it takes the last of duplicate
+ * keys silently (so `{"values":{"ch01":1,"ch01":900}}` would keep 900 without a word) and has no
+ * depth limit. Pure, one pass over the text, no allocation but a small stack of key sets.
+ */
+
+/** Deepest nesting a logger message needs is 2 (`{"values":{...}}`); anything far deeper is refused. */
+export const MAX_JSON_DEPTH = 32;
+
+export type JsonShapeProblem = { kind: 'duplicate_key'; key: string; path: string } | { kind: 'too_deep'; depth: number };
+
+const QUOTE = 0x22;
+const BACKSLASH = 0x5c;
+const OPEN_OBJECT = 0x7b;
+const CLOSE_OBJECT = 0x7d;
+const OPEN_ARRAY = 0x5b;
+const CLOSE_ARRAY = 0x5d;
+const COLON = 0x3a;
+const COMMA = 0x2c;
+
+/**
+ * The first duplicate object key or excessive nesting in `text`, or null. Call it on text that
+ * JSON.parse accepted (it does not validate JSON itself). The path names the object holding the
+ * duplicate, in the decoder's dotted form (`values` for a channel given twice).
+ */
+export function jsonShapeProblem(text: string, maxDepth = MAX_JSON_DEPTH): JsonShapeProblem | null {
+  // One entry per open container: its key set (objects; created on the first key) and its key in the parent.
+  const keys: Array<Set<string> | null> = [];
+  const isObject: boolean[] = [];
+  const names: string[] = [];
+  let expectKey = false;
+  let lastKey = '';
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (c === QUOTE) {
+      let j = i + 1;
+      let escaped = false;
+      for (; j < text.length; j++) {
+        const d = text.charCodeAt(j);
+        if (d === BACKSLASH) { escaped = true; j++; continue; }
+        if (d === QUOTE) break;
+      }
+      if (expectKey) {
+        // Keys are compared as JSON.parse sees them: escapes decoded ("ch\u0030" is "ch0").
+        const key = escaped ? (JSON.parse(text.slice(i, j + 1)) as string) : text.slice(i + 1, j);
+        const top = keys.length - 1;
+        let set = keys[top];
+        if (set === null) keys[top] = set = new Set();
+        if (set.has(key)) return { kind: 'duplicate_key', key, path: names.filter((n) => n !== '').join('.') };
+        set.add(key);
+        lastKey = key;
+        expectKey = false;
+      }
+      i = j;
+    } else if (c === OPEN_OBJECT || c === OPEN_ARRAY) {
+      if (keys.length >= maxDepth) return { kind: 'too_deep', depth: keys.length + 1 };
+      names.push(keys.length > 0 && isObject[isObject.length - 1] ? lastKey : '');
+      keys.push(null);
+      isObject.push(c === OPEN_OBJECT);
+      expectKey = c === OPEN_OBJECT;
+    } else if (c === CLOSE_OBJECT || c === CLOSE_ARRAY) {
+      keys.pop();
+      isObject.pop();
+      names.pop();
+      expectKey = false;
+    } else if (c === COMMA) {
+      expectKey = isObject.length > 0 && isObject[isObject.length - 1];
+    } else if (c === COLON) {
+      expectKey = false;
+    }
+  }
+  return null;
+}

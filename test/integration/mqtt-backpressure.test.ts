@@ -1,6 +1,7 @@
 /**
  * Intake back-pressure against a real Mosquitto (started here on a free loopback port): with
- * maxHeldAcks messages unacknowledged the connection stops reading, and the rest wait at the broker.
+ * maxHeldAcks messages unacknowledged the connection stops reading, and the rest wait at the broker;
+ * but an answer the client awaits (PUBACK of its own publish, PINGRESP) is always read.
  */
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -33,6 +34,41 @@ describe('MQTT intake back-pressure', () => {
     while (acked < received.length) received[acked++].ack();
     expect(received.length).toBe(1000);
     expect(conn.stats().resumes).toBeGreaterThanOrEqual(1);
+    await pub.endAsync();
+    await conn.close();
+  });
+
+  it('paused at maxHeldAcks, still reads on to the PINGRESP and to the PUBACK of its own publish, and counts what came beyond the window', async () => {
+    // MQTT 3.1.1 to a broker allowing 2000 in flight: it sends far more than the window of 50.
+    const warnings: string[] = [];
+    const conn = await connectMqtt(
+      { url: broker.url, clientId: 'test-bp-answers', protocolVersion: 4, maxHeldAcks: 50, keepalive_s: 2, subscriptions: ['bpa/#'] },
+      { now: Date.now, warn: (event) => warnings.push(event) },
+    );
+    const received: InboundMessage[] = [];
+    conn.messages$.subscribe((m) => received.push(m));
+    const pub = await mqtt.connectAsync(broker.url, { clientId: 'test-bpa-pub' });
+    const publishBatch = (from: number) => Promise.all(Array.from({ length: 500 }, (_, i) => pub.publishAsync(`bpa/${from + i}`, 'x', { qos: 1 })));
+    await publishBatch(0);
+    await new Promise((r) => setTimeout(r, 300));
+    expect(received.length).toBeLessThanOrEqual(51); // paused, nothing awaited
+    expect(warnings).toEqual([]);
+    // Held for 4 s, twice the keep-alive: the PINGREQ goes out and the client reads on to its PINGRESP.
+    await new Promise((r) => setTimeout(r, 4000));
+    expect(received.length).toBe(500);
+    expect(conn.stats().reconnectAttempts).toBe(0);
+    await publishBatch(500);
+    await new Promise((r) => setTimeout(r, 300));
+    expect(received.length).toBeLessThanOrEqual(501); // paused again
+    // Our own publish: its PUBACK lies behind the messages on the wire, so the client reads on to it.
+    await conn.publish('bpa-out/copy', 'copy', { qos: 1 });
+    expect(received.length).toBe(1000);
+    expect(conn.stats().overWindow).toBe(1000 - 50);
+    expect(conn.stats().peakHeldAcks).toBe(1000);
+    expect(warnings).toEqual(['mqtt_window_exceeded']); // once per connection
+    expect(conn.stats().connects).toBe(1);
+    for (const m of received) m.ack();
+    expect(conn.stats().heldAcks).toBe(0);
     await pub.endAsync();
     await conn.close();
   });

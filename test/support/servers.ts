@@ -108,6 +108,8 @@ export async function startMosquitto(opts: {
   aclFile?: string; passwordFile?: string; allowAnonymous?: boolean;
   /** A TLS listener (url `mqtts://`) with these PEM files, e.g. test/fixtures/tls. */
   tls?: { caFile: string; certFile: string; keyFile: string };
+  /** Broker limits (mosquitto.conf options of the same name); unset: 2000 in flight, no packet limit. */
+  maxInflightMessages?: number; maxPacketSize?: number;
 } = {}): Promise<MosquittoServer> {
   const dir = await mkdtemp(join(tmpdir(), 'sw-mosquitto-'));
   const port = await freePort();
@@ -120,8 +122,9 @@ export async function startMosquitto(opts: {
     'log_dest stdout',
     // The processor holds acknowledgements while frames wait for temperature and while writes batch:
     // the broker must allow that many QoS 1 messages in flight (default 20) and keep a long queue.
-    'max_inflight_messages 2000',
+    `max_inflight_messages ${opts.maxInflightMessages ?? 2000}`,
     'max_queued_messages 200000',
+    ...(opts.maxPacketSize === undefined ? [] : [`max_packet_size ${opts.maxPacketSize}`]),
     // Started as root, mosquitto would switch to the `mosquitto` user, which cannot read the test's
     // private temp files; stay the current user (ignored when not root).
     `user ${userInfo().username}`,

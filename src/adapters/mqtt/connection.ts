@@ -25,9 +25,13 @@ export interface MqttConnectionStats {
   reconnectAttempts: number;
   /** Messages received whose PUBACK is still held. */
   heldAcks: number;
+  /** Most PUBACKs held at once since start. */
+  peakHeldAcks: number;
   /** Current reconnect delay, ms. */
   reconnectDelay_ms: number;
-  /** Times intake stopped at maxHeldAcks, and started again. */
+  /** Messages that arrived with maxHeldAcks already held: the broker ignored the window (warned once per connection). */
+  overWindow: number;
+  /** Times intake stopped at maxHeldAcks (nothing awaited from the broker), and started again. */
   pauses: number;
   resumes: number;
 }
@@ -50,6 +54,8 @@ export interface MqttDeps {
   now: () => number;
   /** Connection events for the log. */
   log?: (event: string, detail?: Record<string, unknown>) => void;
+  /** Events an operator must act on (a broker ignoring the window); `log` when absent. */
+  warn?: (event: string, detail?: Record<string, unknown>) => void;
 }
 
 /** Broker refusals that mean "I do not speak MQTT 5": 1 (3.1.1 CONNACK return code), 0x84 (MQTT 5 reason code). */
@@ -95,9 +101,9 @@ function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions
     clientId: o.clientId,
     protocolVersion: version,
     clean: false,
-    // Receive Maximum: how many unacknowledged QoS 1 messages the broker may send us at once. Acks are
-    // held while frames wait for temperature and writes batch, so the default window would stall.
-    ...(version === 5 ? { properties: { sessionExpiryInterval: o.sessionExpiry_s, receiveMaximum: 65_535 } } : {}),
+    // Receive Maximum: how many unacknowledged QoS 1 messages the broker may send us at once, i.e.
+    // how many PUBACKs we may hold while frames wait for temperature and writes batch.
+    ...(version === 5 ? { properties: { sessionExpiryInterval: o.sessionExpiry_s, receiveMaximum: o.maxHeldAcks } } : {}),
     keepalive: o.keepalive_s,
     reconnectPeriod: o.reconnectInitial_ms,
     connectTimeout: o.connectTimeout_ms,
@@ -113,22 +119,37 @@ function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions
 function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Promise<MqttConnection> {
   const log = deps.log ?? (() => {});
   const client = mqtt.connect(o.url, clientOptions(o, version));
-  const stats = { connects: 0, reconnectAttempts: 0, pauses: 0, resumes: 0 };
+  const warn = deps.warn ?? log;
+  const stats = { connects: 0, reconnectAttempts: 0, peakHeldAcks: 0, overWindow: 0, pauses: 0, resumes: 0 };
   let delay_ms = o.reconnectInitial_ms;
 
   // PUBACKs are held by swapping mqtt.js's packet writer. Its own hook, customHandleAcks, cannot
   // do this: mqtt.js ignores it below MQTT 5, and while its callback is pending the client
   // handles no further packet (no later message, no PINGRESP), so one slow ack stalls everything.
-  const internals = client as unknown as { _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void };
+  const internals = client as unknown as {
+    _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void;
+    outgoing: Record<number, unknown>;
+  };
   const sendPacket = internals._sendPacket.bind(client);
-  // Intake back-pressure: with maxHeldAcks messages unacknowledged, mqtt.js is not told that this
-  // PUBACK went out until the count is back to half, and it reads no further packet meanwhile (TCP
-  // then holds the broker back, which queues for the session). Brokers do not all enforce Receive
-  // Maximum; without this an overload would pile up in this process's memory.
+  // Intake back-pressure. The broker is asked to keep to a window of maxHeldAcks (MQTT 5 Receive
+  // Maximum; with 3.1.1 its own in-flight limit), but Mosquitto 2.0.11 keeps to it only until the
+  // first PUBACK. So at maxHeldAcks held, mqtt.js is not told that this PUBACK went out until the
+  // count is back to half, and reads no further packet meanwhile — unless an answer of the broker
+  // is awaited (SUBACK, PUBACK of our own publish, PINGRESP): that lies behind the messages on the
+  // wire, so then the client reads on, and the messages beyond the window are taken and counted.
   let deferred: (() => void) | null = null;
+  let pingOutstanding = false;
+  const awaitingBroker = () => pingOutstanding || Object.keys(internals.outgoing).length > 0;
+  const resume = () => {
+    if (deferred === null) return;
+    const cb = deferred;
+    deferred = null;
+    stats.resumes++;
+    cb();
+  };
   internals._sendPacket = (packet, cb, ...rest) => {
     if (packet.cmd === 'puback' && !packet[RELEASED]) {
-      if (acks.waiting >= o.maxHeldAcks && cb) {
+      if (cb && acks.waiting >= o.maxHeldAcks && !awaitingBroker()) {
         deferred = cb;
         stats.pauses++;
         return;
@@ -136,19 +157,35 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
       cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
       return;
     }
+    if (packet.cmd === 'pingreq') pingOutstanding = true;
     sendPacket(packet, cb, ...rest);
+    if (awaitingBroker()) resume(); // its answer lies behind the messages on the wire
   };
+  client.on('packetreceive', (packet) => {
+    if (packet.cmd === 'pingresp') pingOutstanding = false;
+  });
   const relieve = () => {
-    if (deferred !== null && acks.waiting <= o.maxHeldAcks / 2) {
-      const cb = deferred;
-      deferred = null;
-      stats.resumes++;
-      cb();
-    }
+    if (acks.waiting <= o.maxHeldAcks / 2) resume();
   };
   const acks = new OrderedAckQueue((messageId) => {
     if (client.connected) sendPacket({ cmd: 'puback', messageId, reasonCode: 0, [RELEASED]: true });
   });
+  // Messages beyond the window are never refused (that would stop the control packets behind
+  // them too): they are counted, and reported once per connection.
+  let warnedThisConnection = false;
+  const countHeld = () => {
+    const held = acks.waiting;
+    if (held > stats.peakHeldAcks) stats.peakHeldAcks = held;
+    if (held <= o.maxHeldAcks) return;
+    stats.overWindow++;
+    if (warnedThisConnection) return;
+    warnedThisConnection = true;
+    warn('mqtt_window_exceeded', {
+      heldAcks: held, maxHeldAcks: o.maxHeldAcks, protocolVersion: version,
+      message: `the broker sent more than mqtt.max_held_acks (${o.maxHeldAcks}) messages without their acknowledgement; `
+        + 'set its in-flight limit (Mosquitto: max_inflight_messages) to at most that value',
+    });
+  };
 
   const subject = new Subject<InboundMessage>();
   let early: InboundMessage[] | null = [];
@@ -165,11 +202,12 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
   client.on('message', (topic, payload, packet) => {
     const raw: RawMessage = { topic, payload: new Uint8Array(payload), arrivalMs: deps.now() };
     const ticket = packet.qos === 1 && packet.messageId !== undefined ? acks.enqueue(packet.messageId) : { ack() {} };
+    countHeld();
     const message: InboundMessage = { raw, ack: () => { ticket.ack(); relieve(); } };
     if (early) early.push(message);
     else subject.next(message);
   });
-  client.on('close', () => { acks.reset(); deferred = null; });
+  client.on('close', () => { acks.reset(); deferred = null; pingOutstanding = false; warnedThisConnection = false; });
   client.on('reconnect', () => {
     stats.reconnectAttempts++;
     // mqtt.js reads reconnectPeriod each time it schedules, so growing it here is the backoff.

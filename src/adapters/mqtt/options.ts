@@ -33,8 +33,12 @@ export const mqttConnectionOptionsSchema = z.strictObject({
   reconnectMax_ms: z.number().int().min(10).default(30_000),
   reconnectFactor: z.number().min(1).max(10).default(2),
   connectTimeout_ms: z.number().int().min(100).default(10_000),
-  /** Stop reading from the broker while this many messages wait for their acknowledgement (resume at half). */
-  maxHeldAcks: z.number().int().min(2).default(4096),
+  /**
+   * Most messages held unacknowledged at once: the window the broker is asked to keep to (MQTT 5
+   * Receive Maximum; with 3.1.1 the broker's own in-flight limit must be at most this). Messages
+   * beyond it are still taken (never stop reading control packets), counted and warned about.
+   */
+  maxHeldAcks: z.number().int().min(2).max(65_535).default(4096),
   /**
    * Last will: the broker publishes it (QoS 1) when this client goes without a DISCONNECT (process
    * killed, machine or network gone), so others learn that the processor itself is silent.

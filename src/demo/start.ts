@@ -158,7 +158,13 @@ async function main(): Promise<number> {
     process.once('SIGTERM', () => done('SIGTERM'));
   });
   stopping = true;
-  process.once('SIGINT', () => { say('second interrupt: leaving at once (unacknowledged messages are lost with the embedded broker)'); process.exit(130); });
+  // Ctrl-C reaches this process twice (from the terminal and forwarded by npm): only a later one forces the exit.
+  const firstAt = Date.now();
+  process.on('SIGINT', () => {
+    if (Date.now() - firstAt < 2000) return;
+    say('second interrupt: leaving at once (messages not yet acknowledged are lost with the embedded broker)');
+    process.exit(130);
+  });
   say(`${signal}: stopping the simulator, then the processor (writing and acknowledging what is in flight)...`);
   const sim = child as ChildProcess | null;
   if (sim !== null && sim.exitCode === null && sim.signalCode === null) {

@@ -1,0 +1,144 @@
+import { describe, expect, it } from 'vitest';
+import { initialPageState, loggerStateAt, MAX_REFUSALS, orderedAlarms, pageView, reducePage, type ProcessorSample } from '../../../src/app/live-page/page-state.js';
+import { TrendRing } from '../../../src/app/live-page/trend-ring.js';
+import type { AckRefusal, Alarm, AlarmLookups, AlarmTransition } from '../../../src/alarms/types.js';
+import type { GroupResult } from '../../../src/model/result.js';
+
+const T0 = Date.UTC(2026, 0, 5, 8);
+
+const lookups: AlarmLookups = {
+  structureId: 's',
+  groups: new Map([['g1', { zone: 'a', location: 'beam 1' }], ['g2', { zone: 'b', location: 'beam 2' }]]),
+  loggers: new Map([['lg', {
+    zone: 'a', location: 'cabinet', expectedIntervalS: 1,
+    channels: new Map([
+      ['ch1', { groupId: 'g1', location: 'gauge 1', validMin: -100, validMax: 100, unit: 'microstrain' }],
+      ['ch2', { groupId: 'g2', location: 'gauge 2', validMin: -100, validMax: 100, unit: 'microstrain' }],
+    ]),
+  }]]),
+};
+
+const fresh = (trend_s = 60) => initialPageState({
+  structureId: 's', name: 'Test structure',
+  groups: [{ id: 'g1', zone: 'a', location: 'beam 1', kind: 'plane_rosette', material: 'steel' }, { id: 'g2', zone: 'b', location: 'beam 2', kind: 'single', material: 'steel' }],
+}, lookups, trend_s);
+
+const result = (groupId: string, timeMs: number, values: GroupResult['values'], flags: GroupResult['flags'] = []): GroupResult => ({
+  structureId: 's', groupId, zone: 'a', loggerId: 'lg', timeMs, seq: null, values, elementStrainMicro: {}, flags,
+});
+
+function alarm(over: Partial<Alarm>): Alarm {
+  return {
+    id: 'a', key: 'k', structureId: 's', zone: 'a', alarmClass: 'structural', ruleId: 'r', subject: { kind: 'group', groupId: 'g1' }, location: 'beam 1',
+    quantity: 'von_mises_MPa', value: 60, limit: 55, units: 'MPa', level: 'advisory', levelIndex: 0, state: 'active_unacknowledged',
+    sinceMs: T0, lastChangeMs: T0, trendPerS: null, action: 'look', raiseCount: 1, repeatCount: 0, tier: 0, tierSinceMs: T0, flapping: false,
+    suppressedCount: 0, acknowledgement: null, ...over,
+  } as Alarm;
+}
+const transition = (a: Alarm, kind: AlarmTransition['kind'] = 'raised'): AlarmTransition => ({ kind, atMs: a.lastChangeMs, alarm: a });
+
+const sample = (messages: number, results: number, rejected = 0): ProcessorSample => ({
+  messages, frames: messages, results, rejected, writeErrors: 0, heldAcks: 3, databaseConfigured: false, databaseReachable: null, spoolFillRatio: null,
+});
+
+describe('live page reducer', () => {
+  it('keeps each group\'s latest result and flags, and a trend of per-second extremes', () => {
+    const s = fresh();
+    reducePage(s, { type: 'result', result: result('g1', T0 + 100, { von_mises_MPa: 10, principal_1_MPa: 8, principal_2_MPa: -3 }) });
+    reducePage(s, { type: 'result', result: result('g1', T0 + 600, { von_mises_MPa: 14, principal_1_MPa: 12, principal_2_MPa: -1 }) });
+    reducePage(s, { type: 'result', result: result('g1', T0 + 1200, { von_mises_MPa: 9, principal_1_MPa: 7, principal_2_MPa: -4 }, ['temperature_stale']) });
+    reducePage(s, { type: 'result', result: result('g2', T0 + 50, { von_mises_MPa: 20, stress_axial_MPa: -20 }) });
+    reducePage(s, { type: 'result', result: result('nope', T0, { von_mises_MPa: 1 }) }); // not configured: ignored
+    const v = pageView(s, () => Number.NEGATIVE_INFINITY);
+    const g1 = v.groups.find((g) => g.id === 'g1')!;
+    expect(g1.values).toEqual({ von_mises_MPa: 9, principal_1_MPa: 7, principal_2_MPa: -4 });
+    expect(g1.flags).toEqual(['temperature_stale']);
+    expect(g1.timeMs).toBe(T0 + 1200);
+    // Bucket [T0, T0+1000): max von Mises 14, highest principal 12, lowest -3; the next bucket holds the last result.
+    expect(g1.trend).toEqual([[T0, 14, 12, -3], [T0 + 1000, 9, 7, -4]]);
+    // A single gauge's trend uses its axial stress for both principal extremes.
+    expect(v.groups.find((g) => g.id === 'g2')!.trend).toEqual([[T0, 20, -20, -20]]);
+    // An update carries only the last sent bucket and newer.
+    expect(pageView(s, () => T0 + 1000).groups[0].trend).toEqual([[T0 + 1000, 9, 7, -4]]);
+  });
+
+  it('bounds each trend to its length: the oldest buckets are overwritten', () => {
+    const s = fresh(10);
+    for (let k = 0; k < 25; k++) reducePage(s, { type: 'result', result: result('g1', T0 + k * 1000, { von_mises_MPa: k }) });
+    const trend = pageView(s, () => Number.NEGATIVE_INFINITY).groups[0].trend;
+    expect(trend.length).toBe(10);
+    expect(trend[0]).toEqual([T0 + 15_000, 15, null, null]);
+    expect(trend[9]).toEqual([T0 + 24_000, 24, null, null]);
+  });
+
+  it('tracks loggers and channels: last value, nulls, out of range, sequence gaps, silence on the pipeline clock', () => {
+    const s = fresh();
+    const frame = (seq: number, at: number, values: Array<[string, number | null]>) => reducePage(s, {
+      type: 'frame', frame: { structureId: 's', loggerId: 'lg', timeMs: at - 40, seq, values: new Map(values), arrivalMs: at },
+    });
+    frame(1, T0, [['ch1', 12.5], ['ch2', null]]);
+    frame(4, T0 + 1000, [['ch1', 250], ['ch2', 3]]);
+    let l = pageView(s, () => 0).loggers[0];
+    expect(l).toMatchObject({ id: 'lg', frames: 2, seqGaps: 2, state: 'receiving', ageS: 0 });
+    expect(l.channels).toEqual([
+      { id: 'ch1', unit: 'microstrain', groupId: 'g1', lastValue: 250, nulls: 0, outOfRange: true, ageS: 0 },
+      { id: 'ch2', unit: 'microstrain', groupId: 'g2', lastValue: 3, nulls: 1, outOfRange: false, ageS: 0 },
+    ]);
+    reducePage(s, { type: 'tick', nowMs: T0 + 7000 });
+    l = pageView(s, () => 0).loggers[0];
+    // 6 s without a scan from a logger expected every 1 s: more than five intervals.
+    expect(l.state).toBe('silent');
+    expect(l.ageS).toBeCloseTo(6, 9);
+    expect(loggerStateAt({ lastArrivalMs: null, expectedIntervalS: 1 }, T0)).toEqual({ state: 'waiting', ageS: null });
+  });
+
+  it('keeps visible alarms from transitions, drops closed ones, and lists the most severe first, then the newest', () => {
+    const s = fresh();
+    const old = alarm({ id: 'old', sinceMs: T0, lastChangeMs: T0 });
+    const newer = alarm({ id: 'newer', sinceMs: T0 + 5000, lastChangeMs: T0 + 5000 });
+    const severe = alarm({ id: 'severe', level: 'alert', levelIndex: 1, sinceMs: T0 - 60_000 });
+    const health = alarm({ id: 'health', alarmClass: 'health', sinceMs: T0 + 9000 });
+    reducePage(s, { type: 'alarms_restored', alarms: [old, alarm({ id: 'gone', state: 'closed' })] });
+    reducePage(s, { type: 'alarm_transitions', transitions: [transition(newer), transition(severe), transition(health)] });
+    expect(pageView(s, () => 0).alarms.map((a) => a.id)).toEqual(['severe', 'newer', 'old', 'health']);
+    reducePage(s, { type: 'alarm_transitions', transitions: [transition({ ...old, state: 'closed', acknowledgement: { user: 'u', reason: 'r', atMs: T0 } }, 'acknowledged')] });
+    reducePage(s, { type: 'alarm_transitions', transitions: [transition({ ...newer, state: 'active_acknowledged' }, 'acknowledged')] });
+    const v = pageView(s, () => 0);
+    expect(v.alarms.map((a) => [a.id, a.state])).toEqual([['severe', 'active_unacknowledged'], ['newer', 'active_acknowledged'], ['health', 'active_unacknowledged']]);
+    expect(orderedAlarms([])).toEqual([]);
+  });
+
+  it('keeps the last refusals only, newest first', () => {
+    const s = fresh();
+    for (let k = 0; k < MAX_REFUSALS + 5; k++) {
+      const r: AckRefusal = { code: 'user_not_allowed', alarmId: 'a', user: `u${k}`, userReason: 'x', reason: 'no', atMs: T0 + k };
+      reducePage(s, { type: 'refusal', refusal: r });
+    }
+    const v = pageView(s, () => 0);
+    expect(v.refusals.length).toBe(MAX_REFUSALS);
+    expect(v.refusals[0].user).toBe(`u${MAX_REFUSALS + 4}`);
+  });
+
+  it('turns processor counters into rates between samples', () => {
+    const s = fresh();
+    reducePage(s, { type: 'processor', atMs: T0, sample: sample(100, 180) });
+    expect(pageView(s, () => 0).processor?.rates).toBeNull();
+    reducePage(s, { type: 'processor', atMs: T0 + 2000, sample: sample(300, 580, 4) });
+    const p = pageView(s, () => 0).processor!;
+    expect(p.rates).toEqual({ messagesPerS: 100, resultsPerS: 200, rejectedPerS: 2 });
+    expect(p.heldAcks).toBe(3);
+    // A sample at the same instant keeps the last rates instead of dividing by zero.
+    reducePage(s, { type: 'processor', atMs: T0 + 2000, sample: sample(300, 580, 4) });
+    expect(pageView(s, () => 0).processor!.rates).toEqual({ messagesPerS: 100, resultsPerS: 200, rejectedPerS: 2 });
+  });
+});
+
+describe('TrendRing', () => {
+  it('skips missing values and puts a late value into the newest bucket', () => {
+    const r = new TrendRing(4, 1000);
+    r.add(T0 + 2500, Number.NaN, 5, Number.NaN);
+    r.add(T0 + 2600, 3, Number.NaN, -2);
+    r.add(T0 + 1000, 7, 1, -9); // older than the newest bucket
+    expect(r.since(Number.NEGATIVE_INFINITY)).toEqual([[T0 + 2000, 7, 5, -9]]);
+  });
+});

@@ -31,6 +31,7 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
     leadFactor: 1,
     vwMicroPerDigit: 0,
     thermalOutput: new Float64Array(0),
+    thermalOutputGaugeFactor: 0,
     thermalOutputAtZeroMicro: 0,
     // A self-compensated gauge with no published curve is taken as matched to its host:
     // its reading is then already mechanical strain.
@@ -47,7 +48,8 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
     el.gfTempCoeff = sig.gauge_factor_temp_coeff_per_degC;
     el.gfRefTempC = sig.gauge_factor_ref_temperature_degC ?? gauge.zero_temperature_degC;
     el.bridgeCode = BRIDGE_CODE[sig.bridge];
-    el.leadFactor = leadWireFactor(sig.lead_resistance_ohm, sig.gauge_resistance_ohm);
+    // Quarter bridge only (cross-check.ts refuses lead resistance on half and full bridges).
+    el.leadFactor = sig.lead_resistance_ohm === undefined ? 1 : leadWireFactor(sig.lead_resistance_ohm, sig.gauge_resistance_ohm ?? 350);
   } else if (sig.unit === 'Hz' || sig.unit === 'digits') {
     el.signal = sig.unit === 'Hz' ? SIGNAL_VW_HZ : SIGNAL_VW_DIGITS;
     el.zero = sig.unit === 'Hz' ? vibratingWireDigits(gauge.zero_reading) : gauge.zero_reading;
@@ -56,10 +58,11 @@ export function compileElement(gauge: GaugeConfig, physicalRow: Float64Array, ho
     el.referenceExpansionMicroPerDegC = sig.wire_alpha_per_degC * rowNormalSum * 1e6;
   }
   const to = gauge.thermal_output;
+  // (cross-check.ts refuses a curve on a vibrating-wire gauge, and a curve gauge factor on a microstrain signal.)
   if (to !== undefined && el.signal !== SIGNAL_VW_HZ && el.signal !== SIGNAL_VW_DIGITS) {
-    // The curve was recorded with to.gauge_factor; a reading taken with another factor scales by their ratio.
-    const scale = to.gauge_factor !== undefined && sig.unit === 'mV/V' ? to.gauge_factor / sig.gauge_factor : 1;
-    el.thermalOutput = Float64Array.from(to.coefficients_micro, (c) => c * scale);
+    el.thermalOutput = Float64Array.from(to.coefficients_micro);
+    // The curve was recorded with to.gauge_factor (or the gauge's own); each reading uses the factor at its temperature.
+    if (sig.unit === 'mV/V') el.thermalOutputGaugeFactor = to.gauge_factor ?? sig.gauge_factor;
     el.thermalOutputAtZeroMicro = horner(el.thermalOutput, gauge.zero_temperature_degC);
     el.referenceExpansionMicroPerDegC = to.characterised_on_alpha_per_degC * rowNormalSum * 1e6;
   }
@@ -72,7 +75,7 @@ export function sameTemperatureModel(a: ElementModel, b: ElementModel): boolean 
     && a.gfRefTempC === b.gfRefTempC && a.thermalOutputAtZeroMicro === b.thermalOutputAtZeroMicro
     && a.referenceExpansionMicroPerDegC === b.referenceExpansionMicroPerDegC
     && a.hostExpansionMicroPerDegC === b.hostExpansionMicroPerDegC && a.rowNormalSum === b.rowNormalSum
-    && a.thermalOutput.length === b.thermalOutput.length && a.thermalOutput.every((c, k) => c === b.thermalOutput[k]);
+    && a.thermalOutputGaugeFactor === b.thermalOutputGaugeFactor && a.thermalOutput.length === b.thermalOutput.length && a.thermalOutput.every((c, k) => c === b.thermalOutput[k]);
 }
 
 /** Marks each element's thermal twin: the first earlier element with the same temperature model. */

@@ -12,6 +12,13 @@ import type { GroupConfig } from './group-schema.js';
 
 const DEG = Math.PI / 180;
 
+/** Poisson ratio of the gauge-factor calibration beam when the file gives none (the usual 0.285, common practice). */
+export const DEFAULT_CALIBRATION_NU = 0.285;
+/** residual_high limit on the fit's standard error when the group gives none, microstrain. */
+export const DEFAULT_FIT_STD_ERROR_LIMIT_MICRO = 30;
+
+const calibrationNu = (g: GaugeConfig) => g.transverse_calibration_nu ?? DEFAULT_CALIBRATION_NU;
+
 /**
  * In-plane observation row of a gauge at angle theta with transverse sensitivity kt, calibrated on a
  * beam of Poisson ratio nu0: reading = (eps_axial + kt eps_transverse) / (1 - nu0 kt).
@@ -65,7 +72,7 @@ export function compileGroup(
     group.elements.forEach((e, i) => {
       const g = gauges[i];
       const t = e.transverse_direction ? unit(e.transverse_direction) : undefined;
-      const row = solidObservationRow(unit(e.direction), t, g.transverse_sensitivity, g.transverse_calibration_nu);
+      const row = solidObservationRow(unit(e.direction), t, g.transverse_sensitivity, calibrationNu(g));
       obs.set(row, i * n);
       elements.push(compileElement(g, row, solidAlpha));
     });
@@ -73,7 +80,7 @@ export function compileGroup(
     hostAlpha = solidAlpha;
   } else {
     const rows = group.elements.map((e, i) =>
-      planeObservationRow('angle_deg' in e ? e.angle_deg : 0, gauges[i].transverse_sensitivity, gauges[i].transverse_calibration_nu));
+      planeObservationRow('angle_deg' in e ? e.angle_deg : 0, gauges[i].transverse_sensitivity, calibrationNu(gauges[i])));
     rows.forEach((row, i) => elements.push(compileElement(gauges[i], row, planeAlpha)));
     if (group.kind === 'plane_rosette') {
       kind = GROUP_PLANE;
@@ -109,7 +116,7 @@ export function compileGroup(
     zzCompliance: Float64Array.of(s6[ZZ * 6 + XX], s6[ZZ * 6 + YY], s6[ZZ * 6 + XY]),
     hostAlpha,
     zeroTempC: zero,
-    fitStdErrorLimitMicro: group.fit_std_error_limit_micro,
+    fitStdErrorLimitMicro: group.fit_std_error_limit_micro ?? DEFAULT_FIT_STD_ERROR_LIMIT_MICRO,
     yieldMPa: material.yieldMPa,
     tensileMPa: material.tensileMPa,
     compressiveMPa: material.compressiveMPa,
@@ -125,7 +132,7 @@ export function compileGroup(
  * Which in-grid direction is taken does not matter for an isotropic free strain.
  */
 function compileCompanion(gauge: GaugeConfig, solidAlpha: Float64Array): ElementModel {
-  const row = solidObservationRow([1, 0, 0], [0, 1, 0], gauge.transverse_sensitivity, gauge.transverse_calibration_nu);
+  const row = solidObservationRow([1, 0, 0], [0, 1, 0], gauge.transverse_sensitivity, calibrationNu(gauge));
   return compileElement(gauge, row, solidAlpha);
 }
 

@@ -15,9 +15,13 @@ const BridgeSignal = z.strictObject({
   unit: z.literal('mV/V'),
   gauge_factor: z.number().min(0.5).max(10),
   bridge: z.enum(['quarter', 'half', 'full']),
-  gauge_resistance_ohm: z.number().positive().default(350),
-  /** Lead resistance in series with the active arm (both wires of a 2-wire quarter bridge). */
-  lead_resistance_ohm: z.number().min(0).default(0),
+  /** Quarter bridge with lead_resistance_ohm: the gauge's resistance (350 when not given). */
+  gauge_resistance_ohm: z.number().positive().optional(),
+  /**
+   * Quarter bridge only: lead resistance in series with the active arm (both wires of a 2-wire
+   * quarter bridge); restored by the factor 1 + RL / Rg. Refused on half and full bridges.
+   */
+  lead_resistance_ohm: z.number().min(0).optional(),
   /** Fractional gauge-factor change per degC (e.g. 1e-4 = +1 % per 100 degC). */
   gauge_factor_temp_coeff_per_degC: z.number().min(-0.01).max(0.01).default(0),
   /** Temperature at which gauge_factor holds; defaults to the zero-reading temperature. */
@@ -46,7 +50,10 @@ export const ThermalOutputSchema = z.strictObject({
   coefficients_micro: z.array(z.number()).min(1).max(8),
   /** Expansion coefficient of the material the thermal output was characterised on, 1/degC. */
   characterised_on_alpha_per_degC: z.number().min(-1e-4).max(1e-4),
-  /** Gauge factor the curve was recorded with; the curve is rescaled to the gauge's own factor. */
+  /**
+   * mV/V signals: gauge factor the curve was recorded with (default: the gauge's own). Each reading
+   * shows the curve times this factor over the gauge factor at the reading's temperature.
+   */
   gauge_factor: z.number().min(0.5).max(10).optional(),
 });
 
@@ -61,8 +68,8 @@ export const GaugeSchema = z.strictObject({
   zero_temperature_degC: z.number().min(-60).max(120),
   /** Transverse sensitivity coefficient Kt (fraction, e.g. 0.01 for 1 %). */
   transverse_sensitivity: z.number().min(-0.2).max(0.2).default(0),
-  /** Poisson ratio of the gauge-factor calibration beam. 0.285 is the usual value (common practice). */
-  transverse_calibration_nu: z.number().min(0).max(0.5).default(0.285),
+  /** With transverse_sensitivity: Poisson ratio of the gauge-factor calibration beam; 0.285 when not given (the usual value, common practice). */
+  transverse_calibration_nu: z.number().min(0).max(0.5).optional(),
   thermal_output: ThermalOutputSchema.optional(),
   /** Readings outside this range (signal unit) are treated as failed: open circuit, saturation. */
   valid_range: z.tuple([z.number(), z.number()]).optional(),

@@ -40,10 +40,10 @@ const common = {
   temperature_sensors: z.array(IdSchema).default([]),
   temperature: TemperatureJoinSchema.default({ mode: 'last', max_age_s: 900, max_wait_s: 0, withhold_when_missing: false }),
   /**
-   * Flag `residual_high` when the fit's standard error, sqrt(sum r^2 / (elements - unknowns)) =
-   * `fit_std_error_micro`, exceeds this (redundant groups), microstrain.
+   * Redundant groups only: flag `residual_high` when the fit's standard error, sqrt(sum r^2 /
+   * (elements - unknowns)) = `fit_std_error_micro`, exceeds this, microstrain (30 when not given).
    */
-  fit_std_error_limit_micro: z.number().positive().default(30),
+  fit_std_error_limit_micro: z.number().positive().optional(),
   /** Renamed: the old name did not say which residual measure it compares. */
   residual_limit_micro: renamedTo('fit_std_error_limit_micro', 'it compares the standard error of the fit (fit_std_error_micro), not the residual RMS'),
 };

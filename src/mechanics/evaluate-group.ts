@@ -16,10 +16,14 @@ export const BIT_RESIDUAL_HIGH = 1 << 4;
 export const BIT_COMPANION_MISSING = 1 << 5;
 export const BIT_UNDERDETERMINED = 1 << 6;
 
+/** Gauge factor of a bridge element at tempC (its nominal one when tempC is NaN or it has no coefficient). */
+export function elementGaugeFactorAt(el: ElementModel, tempC: number): number {
+  return tempC === tempC && el.gfTempCoeff !== 0 ? gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, tempC, el.gfRefTempC) : el.gaugeFactor;
+}
+
 /** Indicated strain (microstrain) of one element from its raw reading; tempC may be NaN (no GF correction). */
 export function indicatedStrainMicro(el: ElementModel, raw: number, tempC: number): number {
-  const gf = tempC === tempC ? gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, tempC, el.gfRefTempC) : el.gaugeFactor;
-  return indicatedWithFactor(el, raw, gf);
+  return indicatedWithFactor(el, raw, elementGaugeFactorAt(el, tempC));
 }
 
 /** Indicated strain (microstrain) with the gauge factor already taken at the sample's temperature. */
@@ -36,12 +40,19 @@ export function indicatedWithFactor(el: ElementModel, raw: number, gaugeFactor: 
  * gauge's thermal output, plus the free expansion of the body the reading is relative to.
  */
 export function totalStrainMicro(el: ElementModel, indicated: number, tempC: number, zeroTempC: number): number {
-  return indicated - elementThermalOutputMicro(el, tempC) + el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
+  return indicated - elementThermalOutputMicro(el, tempC, elementGaugeFactorAt(el, tempC)) + el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
 }
 
-/** The gauge's thermal output at tempC, referenced to its zero-reading temperature (microstrain; 0 without a curve). */
-export function elementThermalOutputMicro(el: ElementModel, tempC: number): number {
-  return el.thermalOutput.length > 0 ? horner(el.thermalOutput, tempC) - el.thermalOutputAtZeroMicro : 0;
+/**
+ * The gauge's thermal output at tempC, referenced to its zero-reading temperature, as this reading
+ * shows it (microstrain; 0 without a curve). A bridge curve was recorded with the instrument set to
+ * thermalOutputGaugeFactor: its relative resistance change is that factor times the curve, and the
+ * reading converts it with the gauge factor at tempC, `gaugeFactorAtT`.
+ */
+export function elementThermalOutputMicro(el: ElementModel, tempC: number, gaugeFactorAtT: number): number {
+  if (el.thermalOutput.length === 0) return 0;
+  const curve = horner(el.thermalOutput, tempC) - el.thermalOutputAtZeroMicro;
+  return el.thermalOutputGaugeFactor > 0 ? (curve * el.thermalOutputGaugeFactor) / gaugeFactorAtT : curve;
 }
 
 /**
@@ -90,7 +101,7 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
       thermalAt[i] = thermalAt[twin];
     } else {
       gfAt[i] = el.gfTempCoeff === 0 ? el.gaugeFactor : gaugeFactorAt(el.gaugeFactor, el.gfTempCoeff, t, el.gfRefTempC);
-      const thermalOutput = elementThermalOutputMicro(el, t);
+      const thermalOutput = elementThermalOutputMicro(el, t, gfAt[i]);
       const free = freeStrain === freeStrain ? el.rowNormalSum * freeStrain : el.hostExpansionMicroPerDegC * dT;
       thermalAt[i] = el.referenceExpansionMicroPerDegC * dT - thermalOutput - free;
     }

@@ -1,5 +1,5 @@
 import { bridgeOutputRatio, gaugeFactorAt } from './bridge.js';
-import { elementThermalOutputMicro } from './evaluate-group.js';
+import { elementGaugeFactorAt, elementThermalOutputMicro } from './evaluate-group.js';
 import {
   GROUP_PLANE, GROUP_SOLID, SIGNAL_BRIDGE, SIGNAL_MICROSTRAIN, SIGNAL_VW_HZ,
   type ElementModel, type GroupModel,
@@ -45,7 +45,7 @@ export function rawFromIndicated(el: ElementModel, indicated: number, tempC: num
 
 /** Indicated strain of an element whose TOTAL strain along its row is `total` (inverse of totalStrainMicro). */
 export function indicatedFromTotal(el: ElementModel, total: number, tempC: number, zeroTempC: number): number {
-  const to = elementThermalOutputMicro(el, tempC);
+  const to = elementThermalOutputMicro(el, tempC, elementGaugeFactorAt(el, tempC));
   return total + to - el.referenceExpansionMicroPerDegC * (tempC - zeroTempC);
 }
 

@@ -27,8 +27,14 @@ export interface ElementModel {
   leadFactor: number;
   /** Vibrating wire: microstrain per digit (micro_per_digit x calibration_multiplier). */
   vwMicroPerDigit: number;
-  /** Thermal-output polynomial (microstrain vs degC) rescaled to the gauge factor; empty = none. */
+  /** Thermal-output polynomial (microstrain vs degC) as recorded; empty = none. */
   thermalOutput: Float64Array;
+  /**
+   * Bridge elements: the gauge factor the curve was recorded with (the element's nominal one when
+   * the file gives none); per sample the curve is rescaled by it over the gauge factor at the
+   * temperature. 0: no rescaling (the logger reports microstrain itself).
+   */
+  thermalOutputGaugeFactor: number;
   /** The polynomial's value at the zero-reading temperature (it is referenced to it), microstrain. */
   thermalOutputAtZeroMicro: number;
   /**

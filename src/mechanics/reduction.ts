@@ -81,7 +81,7 @@ export function applyPseudoInverse(p: Float64Array, e: Float64Array, m: number, 
  * Sum of the squared least-squares residuals over the used elements (microstrain^2 when e is in
  * microstrain). Writes each element's residual e_i - (A x)_i into r (0 for missing ones). The
  * caller turns it into the residual RMS, sqrt(sum / used), and the standard error of the fit,
- * sqrt(sum / (used - n)) (both in `residualMeasures`).
+ * sqrt(sum / (used - n)) (evaluate-group.ts).
  */
 export function residualSumOfSquares(
   obs: Float64Array, e: Float64Array, x: Float64Array, m: number, n: number, missingMask: number, r: Float64Array,

@@ -40,6 +40,23 @@ describe('invalid configurations name the path and the reason', () => {
     }, 'materials[0].stiffness_MPa: the stiffness matrix must be symmetric'],
     ['a gauge in two groups', (d) => { d.groups.push({ ...d.groups[0], id: 'r2' }); }, 'groups[1].elements[0].gauge: gauge "g0" already belongs to groups[0]'],
     ['a wrong schema version', (d) => { d.schema_version = 2; }, 'schema_version: expected one of 1, received 2'],
+    // Renamed keys name their successor.
+    ['the old residual limit key', (d) => { d.groups[0].residual_limit_micro = 20; },
+      'groups[0].residual_limit_micro: renamed to "fit_std_error_limit_micro": it compares the standard error of the fit (fit_std_error_micro), not the residual RMS'],
+    ['a vibrating-wire gauge_factor', (d) => { d.gauges[0] = { ...d.gauges[0], kind: 'vibrating_wire', signal: { unit: 'Hz', gauge_factor: 3, wire_alpha_per_degC: 1e-5 } }; },
+      'gauges[0].signal.gauge_factor: renamed to "micro_per_digit": microstrain per digit of the taut wire'],
+    ['a vibrating-wire batch_factor', (d) => { d.gauges[0] = { ...d.gauges[0], kind: 'vibrating_wire', signal: { unit: 'Hz', micro_per_digit: 3, batch_factor: 0.9, wire_alpha_per_degC: 1e-5 } }; },
+      'gauges[0].signal.batch_factor: renamed to "calibration_multiplier": the correction from the gauge\'s own calibration'],
+    // Keys that their other settings would make inert are refused.
+    ['a thermal-output curve on a vibrating-wire gauge', (d) => {
+      d.gauges[0] = { ...d.gauges[0], kind: 'vibrating_wire', signal: { unit: 'Hz', micro_per_digit: 3, wire_alpha_per_degC: 1e-5 }, thermal_output: { coefficients_micro: [1], characterised_on_alpha_per_degC: 1e-5 } };
+    }, 'gauges[0].thermal_output: a vibrating-wire gauge has no thermal-output curve: its temperature effect is the wire\'s own expansion, given by signal.wire_alpha_per_degC (remove thermal_output)'],
+    ['lead resistance on a half bridge', (d) => { d.gauges[0].signal = { unit: 'mV/V', gauge_factor: 2, bridge: 'half', lead_resistance_ohm: 1.5 }; },
+      'gauges[0].signal.lead_resistance_ohm: the lead-wire correction 1 + RL/Rg holds for a 2-wire quarter bridge only; for a half bridge correct the leads in the wiring (remote sense) or by shunt calibration, and remove the key'],
+    ['a curve gauge factor on a microstrain signal', (d) => { d.gauges[0].thermal_output = { coefficients_micro: [1], characterised_on_alpha_per_degC: 1e-5, gauge_factor: 2 }; },
+      'gauges[0].thermal_output.gauge_factor: the logger reports microstrain with a gauge factor this file does not know, so the curve cannot be rescaled here: rescale it before entering it, or give the signal in mV/V'],
+    ['a residual limit on a group without redundancy', (d) => { d.groups[0].fit_std_error_limit_micro = 10; },
+      'groups[0].fit_std_error_limit_micro: the group has 3 element(s) for 3 unknown(s): no redundancy, so no residual to compare (remove the key, or add elements)'],
   ];
 
   for (const [name, mutate, expected] of cases) {

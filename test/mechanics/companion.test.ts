@@ -16,7 +16,7 @@ const KT = 0.02, NU0 = 0.285;
 function gauge(id: string, ch: string, kt: number) {
   return {
     id, kind: 'embedded_resistance', channel: { logger: 'lg', channel: ch }, signal: { unit: 'microstrain' },
-    zero_reading: 0, zero_temperature_degC: T0, transverse_sensitivity: kt, transverse_calibration_nu: NU0,
+    zero_reading: 0, zero_temperature_degC: T0, ...(kt === 0 ? {} : { transverse_sensitivity: kt, transverse_calibration_nu: NU0 }),
     thermal_output: { coefficients_micro: [0], characterised_on_alpha_per_degC: 0 },
   };
 }

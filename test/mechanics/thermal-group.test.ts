@@ -65,6 +65,27 @@ describe('temperature compensation at group level', () => {
     expect(out.elementApparentMicro[0]).toBeCloseTo(-40, 9);
   });
 
+  it('rescales a bridge gauge\'s thermal-output curve by the gauge factor at the temperature', () => {
+    // A free steel member, quarter bridge, curve recorded with the instrument at GF 2.0 on steel; the
+    // gauge's own factor is 2.1 at 15 degC, +1e-3 per degC (exaggerated so that the effect is large).
+    // Its relative resistance change since zero is purely thermal: dR/R = 2.0 x (TO(T) - TO(T0)).
+    // Quarter bridge: vr = x / (4 + 2x) with x = dR/R (Wheatstone divider; Dally and Riley, from memory).
+    const gauge = {
+      kind: 'bonded_foil', zero_reading: 0,
+      signal: { unit: 'mV/V', gauge_factor: 2.1, bridge: 'quarter', gauge_factor_temp_coeff_per_degC: 1e-3 },
+      thermal_output: { coefficients_micro: TO, characterised_on_alpha_per_degC: 12e-6, gauge_factor: 2.0 },
+    };
+    const evalAt = singleGroup(gauge);
+    const t = 55;
+    const x = 2.0 * to(t) * 1e-6;
+    const vrMilli = (x / (4 + 2 * x)) * 1e3;
+    expect(evalAt(vrMilli, t).axialStressMPa).toBeCloseTo(0, 9);
+    // Rescaling with the nominal 2.1 instead of GF(55) = 2.1 x 1.04 = 2.184 would leave
+    // TO x 2.0 x (1/2.1 - 1/2.184) = -13.25 x 0.0366 = -0.485 microstrain, 0.10 MPa: far above the tolerance.
+    const left = to(t) * 2.0 * (1 / 2.1 - 1 / 2.184);
+    expect(left).toBeCloseTo(-0.485, 3);
+  });
+
   it('flags a missing temperature and computes without thermal correction', () => {
     const evalAt = singleGroup(foil(12e-6));
     const out = evalAt(100, Number.NaN);

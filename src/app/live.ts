@@ -19,6 +19,8 @@ import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from '.
 import { alarmLookups } from './lookups.js';
 import { brokerAccess } from './broker-access.js';
 import { presenceMessage, presenceTopic, startPresence } from './presence.js';
+import { openLivePage, processorSample, type LivePage } from './live-page/live-page.js';
+import type { RawMessage } from '../model/raw-message.js';
 import { ensureParent, openPointSink } from './sinks.js';
 import { failureSummary } from './failure-summary.js';
 import { loadWebhookAuth } from './webhook-auth.js';
@@ -32,6 +34,8 @@ export interface LiveDeps {
 
 export interface LiveProcessor {
   connection: MqttConnection;
+  /** The live page's address; null without a `live_page` section. */
+  pageUrl: string | null;
   status(): Record<string, unknown>;
   /** Stops taking messages, writes out what is in flight, closes everything. */
   stop(): Promise<void>;
@@ -85,6 +89,14 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const processor = new FrameProcessor<PipelineMessage>(structure);
   let writeErrors = 0;
 
+  // Commands from the live page take the ack topic's own path (capture, decoding, authorisation).
+  const pageCommands$ = new Subject<RawMessage>();
+  const page: LivePage | null = rc.live_page === undefined ? null : await openLivePage(rc.live_page, baseDir, {
+    structure, lookups, now: deps.now, log: deps.log, submitCommand: (raw) => pageCommands$.next(raw),
+    commandTopic: alarmsCfg === null ? null : (user) => ackTopic(alarmsCfg, structure.structureId, user),
+    sample: () => processorSample(decodeCounts, processor.counts, connection.stats().heldAcks, writeErrors, influx?.status() ?? null),
+  });
+
   const stop$ = new Subject<void>();
   const stopped$ = new ReplaySubject<void>(1); // write retries give up at stop: unacknowledged, redelivered next start
   // Split by topic before the pipeline: acknowledgement commands never reach the decoder. Both
@@ -105,21 +117,28 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     record: capture ? (raw) => capture.append(raw) : undefined,
     onDeadLetterError: (err) => deps.log('dead_letter_failed', { message: String(err) }),
   })), { connector: () => new Subject<FrameOutput<PipelineMessage>>(), resetOnDisconnect: false });
-  const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, inbound$.pipe(
+  const takeCommand = (raw: RawMessage): AckEvent => {
+    capture?.append(raw); // in the capture too, so a replay reproduces the acknowledgements
+    return parseAckPayload(raw.payload, raw.arrivalMs);
+  };
+  const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, merge(inbound$.pipe(
     filter(isCommand),
     // The command is taken at once: a command lost in a crash is sent again by its user, who
     // waits for the `acknowledged` message; holding it would hold every later PUBACK behind it.
     map((m): AckEvent => {
-      capture?.append(m.raw); // in the capture too, so a replay reproduces the acknowledgements
+      const event = takeCommand(m.raw);
       m.ack();
-      return parseAckPayload(m.raw.payload, m.raw.arrivalMs);
+      return event;
     }),
-  ), {
+  ), pageCommands$.pipe(map(takeCommand))), {
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: connection.publish, ...alarmFiles,
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
     componentFaults$,
+    onBatch: page === null ? undefined : (batch) => page.onAlarmBatch(batch),
   });
+  page?.seedAlarms(alarmWiring?.visibleAlarms() ?? []);
+  page?.attach(processed$);
   // One line per 10 s while writes fail (a full spool fails every frame), with the count.
   const writeFailures = failureSummary(deps.log, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
@@ -152,8 +171,10 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
 
   return {
     connection,
+    pageUrl: page?.url ?? null,
     status,
     async stop() {
+      await page?.close(); // no new acknowledgements while stopping; a waiting one is told so
       stop$.next();
       stopped$.next();
       await drained;

@@ -4,6 +4,8 @@ import { Aedes } from 'aedes';
 export interface EmbeddedBroker {
   url: string;
   port: number;
+  /** Resolves true at the first message a client with this id publishes, false after `ms`. */
+  firstPublishFrom(clientId: string, ms: number): Promise<boolean>;
   stop(): Promise<void>;
 }
 
@@ -28,6 +30,16 @@ export async function startEmbeddedBroker(host: string, port: number): Promise<E
   return {
     url: `mqtt://${host}:${bound}`,
     port: bound,
+    firstPublishFrom: (clientId, ms) => new Promise<boolean>((done) => {
+      const seen = (_packet: unknown, client: { id: string } | null) => {
+        if (client?.id !== clientId) return;
+        broker.off('publish', seen);
+        clearTimeout(timer);
+        done(true);
+      };
+      const timer = setTimeout(() => { broker.off('publish', seen); done(false); }, ms);
+      broker.on('publish', seen);
+    }),
     stop: async () => {
       await new Promise<void>((done) => broker.close(() => done()));
       await new Promise<void>((done) => server.close(() => done()));

@@ -21,6 +21,8 @@ import { startWebhookReceiver } from './webhook-receiver.js';
 
 const REPO = fileURLToPath(new URL('../../', import.meta.url));
 const SIMULATOR = fileURLToPath(new URL('../../simulators/brannock-mere.ts', import.meta.url));
+/** The simulator's MQTT client id (simulators/outputs.ts). */
+const SIMULATOR_CLIENT = 'strainward-simulator';
 
 /** Said before anything else, and again on the page. */
 export const DEMO_NOTICE = [
@@ -100,40 +102,11 @@ async function main(): Promise<number> {
   const files = dirname(resolve(loaded.baseDir, loaded.runtime.alarms.log_file));
   await mkdir(files, { recursive: true });
   const receiver = await startWebhookReceiver('127.0.0.1', webhookPorts(loaded), resolve(files, 'webhooks.ndjson'));
-  const logFile = resolve(files, 'processor.log');
-  const log = pino({ name: 'strainward' }, pino.destination({ dest: logFile, mkdir: true, sync: false }));
-  let live: LiveProcessor;
-  try {
-    live = await startLive(withPorts(loaded, broker.url, o.pagePort), {
-      now: Date.now,
-      log: (event, detail) => {
-        log.info({ event, ...detail });
-        if (/failed|refused|high_water/.test(event)) say(`processor: ${event}${detail?.message ? `: ${String(detail.message)}` : ''}`);
-      },
-    });
-  } catch (err) {
-    await receiver.stop();
-    await broker.stop();
-    throw err;
-  }
-  const rc = loaded.runtime;
-  const at = (p: string | undefined) => (p === undefined ? '(none)' : shown(resolve(loaded.baseDir, p)));
-  say(`live page      ${live.pageUrl ?? '(none: the runtime file has no live_page section)'}   <- open this in a browser`);
-  say(`broker         ${broker.url} (embedded, MQTT 3.1.1; the processor connects with protocol ${live.connection.protocolVersion})`);
-  say(`results        ${rc.database ? `database ${rc.database.url}` : `${at(rc.line_protocol.dir)}/ (line protocol)`}`);
-  say(`alarm log      ${at(rc.alarms.log_file)}   (alarm state ${at(rc.alarms.state_file)})`);
-  say(`dead letters   ${at(rc.dead_letters.file)}`);
-  say(`raw capture    ${at(rc.capture?.dir)}`);
-  say(`processor log  ${shown(logFile)}`);
-  say(`webhooks       ${receiver.ports.length ? `answered on 127.0.0.1:${receiver.ports.join(', ')} and kept in ${shown(resolve(files, 'webhooks.ndjson'))}` : 'none answered'}`
-    + (receiver.taken.length ? ` (port ${receiver.taken.join(', ')} taken by another program: deliveries go there)` : ''));
-  say('Ctrl-C stops everything; results in flight are written and acknowledged first.');
-
   let stopping = false;
   let child: ChildProcess | null = null;
   let run = 0;
   const startSimulator = () => {
-    const args = ['--import', import.meta.resolve('tsx'), SIMULATOR, '--config', resolve(loaded.baseDir, rc.structure), '--broker', broker.url,
+    const args = ['--import', import.meta.resolve('tsx'), SIMULATOR, '--config', resolve(loaded.baseDir, loaded.runtime.structure), '--broker', broker.url,
       '--start', 'now', '--speed', '1', '--seed', String(o.seed + run), '--duration-s', String(o.durationS), '--day-s', String(o.dayS),
       '--heavy-at-s', o.heavyAtS, '--fault-at', o.faultAt, '--out', resolve(files, 'sim-out')];
     run++;
@@ -152,6 +125,40 @@ async function main(): Promise<number> {
     });
   };
   startSimulator();
+  // The processor starts once the loggers are publishing, as on a structure: started first, it
+  // would rightly report every logger as silent for the second the simulator takes to start.
+  if (!await broker.firstPublishFrom(SIMULATOR_CLIENT, 30_000)) say('simulator: nothing published within 30 s; starting the processor anyway');
+  const logFile = resolve(files, 'processor.log');
+  const log = pino({ name: 'strainward' }, pino.destination({ dest: logFile, mkdir: true, sync: false }));
+  let live: LiveProcessor;
+  try {
+    live = await startLive(withPorts(loaded, broker.url, o.pagePort), {
+      now: Date.now,
+      log: (event, detail) => {
+        log.info({ event, ...detail });
+        if (/failed|refused|high_water/.test(event)) say(`processor: ${event}${detail?.message ? `: ${String(detail.message)}` : ''}`);
+      },
+    });
+  } catch (err) {
+    stopping = true;
+    (child as ChildProcess | null)?.kill('SIGTERM');
+    await receiver.stop();
+    await broker.stop();
+    throw err;
+  }
+  const rc = loaded.runtime;
+  const at = (p: string | undefined) => (p === undefined ? '(none)' : shown(resolve(loaded.baseDir, p)));
+  say(`live page      ${live.pageUrl ?? '(none: the runtime file has no live_page section)'}   <- open this in a browser`);
+  say(`broker         ${broker.url} (embedded, MQTT 3.1.1; the processor connects with protocol ${live.connection.protocolVersion})`);
+  say(`results        ${rc.database ? `database ${rc.database.url}` : `${at(rc.line_protocol.dir)}/ (line protocol)`}`);
+  say(`alarm log      ${at(rc.alarms.log_file)}   (alarm state ${at(rc.alarms.state_file)})`);
+  say(`dead letters   ${at(rc.dead_letters.file)}`);
+  say(`raw capture    ${at(rc.capture?.dir)}`);
+  say(`processor log  ${shown(logFile)}`);
+  say(`webhooks       ${receiver.ports.length ? `answered on 127.0.0.1:${receiver.ports.join(', ')} and kept in ${shown(resolve(files, 'webhooks.ndjson'))}` : 'none answered'}`
+    + (receiver.taken.length ? ` (port ${receiver.taken.join(', ')} taken by another program: deliveries go there)` : ''));
+  say('Ctrl-C stops everything; results in flight are written and acknowledged first.');
+
 
   const signal = await new Promise<string>((done) => {
     process.once('SIGINT', () => done('SIGINT'));

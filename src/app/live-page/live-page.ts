@@ -107,7 +107,7 @@ export async function openLivePage(cfg: LivePageConfig, baseDir: string, deps: L
     attach: (processed$) => processed$.subscribe((o) => {
       if (o.kind === 'tick') apply({ type: 'tick', nowMs: o.nowMs });
       else if (o.kind === 'received') apply({ type: 'frame', frame: o.frame });
-      else for (const result of o.results) apply({ type: 'result', result });
+      else if (o.kind === 'frame') for (const result of o.results) apply({ type: 'result', result });
     }),
     onAlarmBatch(batch) {
       if (batch.transitions.length > 0) apply({ type: 'alarm_transitions', transitions: batch.transitions });

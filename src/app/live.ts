@@ -30,6 +30,8 @@ export interface LiveDeps {
   now: () => number;
   scheduler?: SchedulerLike;
   log: (event: string, detail?: Record<string, unknown>) => void;
+  /** Events an operator must act on (a broker ignoring the intake window); `log` when absent. */
+  warn?: (event: string, detail?: Record<string, unknown>) => void;
 }
 
 export interface LiveProcessor {
@@ -80,10 +82,10 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
     subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
     ...(statusTopic === null ? {} : { will: { topic: statusTopic, payload: presenceMessage('offline', who, deps.now()), retain: true } }),
-  }, { now: deps.now, log: deps.log });
+  }, { now: deps.now, log: deps.log, warn: deps.warn });
 
   const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
-  if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(connection.publish, structure.structureId, rc.dead_letters.mqtt_topic));
+  if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(connection.publish, structure.structureId, rc.dead_letters.mqtt_topic, rc.dead_letters.mqtt_max_packet_bytes));
   const deadLetters = new DeadLetterFanOut(deadLetterSinks);
   const decodeCounts = newDecodeCounts();
   const processor = new FrameProcessor<PipelineMessage>(structure);

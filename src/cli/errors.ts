@@ -4,9 +4,10 @@ import { MissingReadingError, UnknownGroupError } from '../results/calculate.js'
 /**
  * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
  * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent), 5 an
- * acknowledgement refused by the processor or left without a verdict (`ack`).
+ * acknowledgement refused by the processor or left without a verdict (`ack`), 6 the replayed capture
+ * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same).
  */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5 } as const;
+export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6 } as const;
 
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {
@@ -24,6 +25,14 @@ export class AckRefusedError extends Error {
   }
 }
 
+/** `strainward replay`: the capture has gaps (damaged members, missing files) and they were not accepted. */
+export class CaptureGapsError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'CaptureGapsError';
+  }
+}
+
 /** Named error for bad command-line options (after zod validation). */
 export class UsageError extends Error {
   constructor(message: string) {
@@ -36,6 +45,7 @@ export function exitCodeFor(err: unknown): number {
   if (err instanceof ConfigError) return EXIT.config;
   if (err instanceof SilentProcessorError) return EXIT.silent;
   if (err instanceof AckRefusedError) return EXIT.refused;
+  if (err instanceof CaptureGapsError) return EXIT.gaps;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError) return EXIT.usage;
   return EXIT.runtime;
 }

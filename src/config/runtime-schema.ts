@@ -32,8 +32,12 @@ export const RuntimeConfigSchema = z.strictObject({
     session_expiry_s: z.number().int().min(0).default(86_400),
     reconnect_initial_ms: duration_ms.default(500),
     reconnect_max_ms: duration_ms.default(30_000),
-    /** Stop reading from the broker while this many messages wait to be acknowledged (bounded memory under overload). */
-    max_held_acks: z.number().int().min(2).default(4096),
+    /**
+     * Most messages held unacknowledged: the window the broker is asked for (MQTT 5 Receive Maximum;
+     * with 3.1.1 set the broker's in-flight limit to at most this). At it, intake pauses unless an
+     * answer of the broker is awaited; messages beyond it are counted and warned about.
+     */
+    max_held_acks: z.number().int().min(2).max(65_535).default(4096),
   }),
   /**
    * The processor's own status on the broker (retained): `online` every `every_s`, `stopped` on an
@@ -84,7 +88,9 @@ export const RuntimeConfigSchema = z.strictObject({
     file: z.string().min(1),
     /** `{structure}` is replaced; empty string: no MQTT copy. */
     mqtt_topic: z.string().default('strainward/{structure}/deadletter'),
-  }).default({ file: 'var/deadletters.ndjson', mqtt_topic: 'strainward/{structure}/deadletter' }),
+    /** Largest MQTT packet of a copy (reasons, size, SHA-256, excerpt; the whole original is in the file): at most the broker's max_packet_size. */
+    mqtt_max_packet_bytes: z.number().int().min(4096).max(268_435_455).default(16_384),
+  }).default({ file: 'var/deadletters.ndjson', mqtt_topic: 'strainward/{structure}/deadletter', mqtt_max_packet_bytes: 16_384 }),
   /** Raw capture of everything received, for replay. Absent: no capture. */
   capture: z.strictObject({
     dir: z.string().min(1),

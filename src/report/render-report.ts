@@ -5,7 +5,7 @@ import { groupSection } from './group-section.js';
 import { activeSpans, timelineChart } from './health-timeline.js';
 import { peaksByGroup } from './peaks.js';
 import { REPORT_CSS } from './style.js';
-import { alarmsTable, differencesTable, peaksTable } from './tables.js';
+import { alarmsTable, captureGapsTable, differencesTable, peaksTable } from './tables.js';
 import type { ReportInput } from './types.js';
 
 /** The statements every report opens with (also checked by the tests). */
@@ -41,7 +41,13 @@ export function renderReport(input: ReportInput): string {
   body.push(`<h1>${esc(input.title)}</h1>`);
   body.push(`<p class="meta">Structure ${esc(input.structureId)} · period ${esc(isoTime(fromMs))} – ${esc(isoTime(toMs))} UTC · generated ${esc(isoTime(input.generatedAtMs))} UTC · run “${esc(input.run.label)}”${input.comparison ? ` compared with “${esc(input.comparison.label)}”` : ''}</p>`);
   body.push(`<div class="notice" id="notice">${REPORT_NOTICES.map((n) => `<p>${esc(n)}</p>`).join('')}</div>`);
-  body.push('<nav><a href="#peaks">Peaks</a> · <a href="#health">Instrument health</a> · <a href="#alarms">Alarms</a> · <a href="#groups">Groups</a>' + (input.comparison ? ' · <a href="#differences">Differences</a>' : '') + '</nav>');
+  body.push('<nav>' + (input.captureGaps !== undefined ? '<a href="#capture">Capture read</a> · ' : '') + '<a href="#peaks">Peaks</a> · <a href="#health">Instrument health</a> · <a href="#alarms">Alarms</a> · <a href="#groups">Groups</a>' + (input.comparison ? ' · <a href="#differences">Differences</a>' : '') + '</nav>');
+
+  // First: a replay with gaps misses results and alarms of those periods.
+  if (input.captureGaps !== undefined) {
+    body.push('<h2 id="capture">Capture read</h2>');
+    body.push(captureGapsTable(input.captureGaps));
+  }
 
   body.push('<h2 id="peaks">Peaks</h2>');
   body.push(peaksTable(peaksByGroup(input.run.results)));

@@ -1,7 +1,7 @@
 import type { QuantityDifference } from './compare.js';
 import { esc, isoTime, num } from './format.js';
 import type { Extreme, GroupPeaks } from './peaks.js';
-import type { ReportAlarmTransition } from './types.js';
+import type { ReportAlarmTransition, ReportCaptureGap } from './types.js';
 
 /** A numeric cell: shown rounded, the exact value kept in data-value. */
 const cell = (v: number | undefined | null, digits = 2) =>
@@ -19,6 +19,15 @@ export function alarmsTable(alarms: readonly ReportAlarmTransition[]): string {
   if (alarms.length === 0) return '<p>No alarm changed state in this period.</p>';
   const rows = [...alarms].sort((a, b) => a.time_ms - b.time_ms).map((a) => `<tr class="${a.class}"><td>${esc(isoTime(a.time_ms))}</td><td>${esc(a.class)}</td><td>${esc(a.alarm_id)}</td><td>${esc(a.state)}</td><td>${esc(a.level)}</td><td>${esc(a.group_id ?? '')}</td><td>${esc(a.channel ?? '')}</td><td>${esc(a.quantity ?? '')}</td>${cell(a.value, 3)}${cell(a.limit, 3)}<td>${esc(a.message)}</td></tr>`);
   return `<table class="alarms"><thead><tr><th>time (UTC)</th><th>class</th><th>alarm</th><th>state</th><th>level</th><th>group</th><th>channel</th><th>quantity</th><th>value</th><th>limit</th><th>message</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+}
+
+/** The capture's gaps: what the replay could not read, with where and how much. Pure. */
+export function captureGapsTable(gaps: readonly ReportCaptureGap[]): string {
+  if (gaps.length === 0) return '<p>The capture was read whole: every message the index lists was replayed.</p>';
+  const lost = gaps.reduce((n, g) => n + (g.messages ?? 0), 0);
+  const unknown = gaps.filter((g) => g.messages === null).length;
+  const rows = gaps.map((g) => `<tr class="gap"><td>${esc(isoTime(g.fromMs))}</td><td>${esc(isoTime(g.toMs))}</td><td class="n">${g.messages === null ? 'unknown' : g.messages}</td><td>${esc(g.file)}</td><td>${esc(g.reason)}</td></tr>`);
+  return `<p class="warning">The capture has ${gaps.length} gap${gaps.length === 1 ? '' : 's'}: ${lost} messages lost${unknown > 0 ? ` and ${unknown} gap${unknown === 1 ? '' : 's'} of unknown size` : ''}. Results and alarms of these periods are missing from this replay.</p><table class="gaps"><thead><tr><th>from (UTC)</th><th>to (UTC)</th><th>messages lost</th><th>file</th><th>reason</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
 }
 
 /** Differences between two runs per group and quantity. Pure. */

@@ -37,6 +37,17 @@ export interface ReportRun {
   results: readonly GroupResult[];
 }
 
+/** Messages the replayed capture should hold and does not (a damaged member, a missing file). */
+export interface ReportCaptureGap {
+  file: string;
+  /** Arrival times the lost messages lie within, epoch ms. */
+  fromMs: number;
+  toMs: number;
+  /** Messages lost; null when unknown. */
+  messages: number | null;
+  reason: string;
+}
+
 export interface ReportInput {
   title: string;
   structureId: string;
@@ -47,6 +58,8 @@ export interface ReportInput {
   limits?: QuantityLimits;
   /** A second run to compare with the first, result by result (same group and logger time). */
   comparison?: ReportRun;
+  /** Gaps of the capture the run was replayed from (none: the capture was read whole). */
+  captureGaps?: readonly ReportCaptureGap[];
   /**
    * A pause between two results of a group longer than this many times the group's median
    * interval is a data gap (default 3): the line breaks there and the gap is shaded.

@@ -1,11 +1,11 @@
 import { mkdir, open, readdir, stat, unlink } from 'node:fs/promises';
 import { join } from 'node:path';
-import { gzipSync } from 'node:zlib';
 import type { RawMessage } from '../../model/raw-message.js';
 import { captureFileName, encodeCaptureLine, parseCaptureFileName, sortCaptureFiles } from './capture-format.js';
 import { readCaptureIndex, writeCaptureIndex, type CaptureIndex, type CaptureIndexEntry } from './capture-index.js';
 import { readCaptureFile } from './capture-reader.js';
 import { filesBeyondRetention, type CaptureRetention } from './capture-retention.js';
+import { encodeGzipMember } from './gzip-members.js';
 
 export interface CaptureWriterOptions {
   dir: string;
@@ -190,7 +190,10 @@ export class CaptureWriter {
   private async writeGroup(group: RawMessage[]): Promise<void> {
     const c = this.current;
     if (group.length === 0 || c === null) return;
-    const member = gzipSync(group.map(encodeCaptureLine).join(''));
+    // Its figures in its header: a reader can then tell what a damaged member lost.
+    const member = encodeGzipMember(group.map(encodeCaptureLine).join(''), {
+      messages: group.length, firstArrivalMs: group[0].arrivalMs, lastArrivalMs: group[group.length - 1].arrivalMs,
+    });
     const fh = await open(join(this.options.dir, c.name), 'a', 0o600);
     try {
       await fh.appendFile(member);

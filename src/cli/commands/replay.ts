@@ -2,7 +2,7 @@ import { writeFile } from 'node:fs/promises';
 import { resolve } from 'node:path';
 import { Command } from 'commander';
 import { z } from 'zod';
-import { readCapture } from '../../adapters/capture/capture-reader.js';
+import { readCapture, type CaptureGap } from '../../adapters/capture/capture-reader.js';
 import { readCaptureIndex } from '../../adapters/capture/capture-index.js';
 import { NdjsonFileDeadLetterSink } from '../../adapters/deadletter/ndjson-file-sink.js';
 import { LineFileSink } from '../../adapters/lineproto/file-sink.js';
@@ -18,7 +18,7 @@ import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import { parseOptions } from '../options.js';
-import { UsageError } from '../errors.js';
+import { CaptureGapsError, UsageError } from '../errors.js';
 
 const isoTime = z.string().refine((s) => Number.isFinite(Date.parse(s)), 'expected an ISO 8601 time, e.g. 2026-11-30T06:00:00Z');
 
@@ -37,6 +37,7 @@ export const ReplayOptionsSchema = z.strictObject({
   compareStructure: z.string().min(1).optional(),
   tickMs: z.coerce.number().int().positive().default(1000),
   progress: z.boolean().optional(),
+  acceptGaps: z.boolean().default(false),
 }).refine((o) => o.config !== undefined || o.structure !== undefined, { message: 'give --config (runtime file) or --structure', path: ['structure'] })
   .refine((o) => !o.database || o.config !== undefined, { message: '--database needs --config (it names the database)', path: ['database'] })
   .refine((o) => o.reportPdf === undefined || o.report !== undefined, { message: '--report-pdf goes with --report', path: ['reportPdf'] });
@@ -59,6 +60,7 @@ export function replayCommand(): Command {
     .option('--compare-structure <file>', 'replay again with this structure configuration and compare in the report')
     .option('--tick-ms <ms>', 'pipeline clock tick on the arrival-time grid', '1000')
     .option('--progress', 'show a progress bar (default when stderr is a terminal)')
+    .option('--accept-gaps', 'a capture with gaps (damaged members, missing files) still exits 0; the gaps are reported all the same')
     .action(async (raw: unknown) => {
       const o = parseOptions(ReplayOptionsSchema, raw);
       const loaded = o.config ? await loadRuntimeFile(o.config, o.structure) : null;
@@ -67,12 +69,18 @@ export function replayCommand(): Command {
       const total = await countInWindow(o.capture, window);
       const showProgress = o.progress ?? Boolean(process.stderr.isTTY);
       let clockMs = 0; // output files are named by data time, so a replay's output is the same run after run
+      const gaps: CaptureGap[] = []; // of the first run (a comparison reads the same capture)
       const run = async (s: CompiledStructure, tag: string, sink: PointSink, collect: boolean): Promise<ReplaySummary> => {
+        const onGap = tag === o.runTag ? (g: CaptureGap) => {
+          gaps.push(g);
+          process.stderr.write(`${gapLine(g)}\n`);
+        } : undefined;
         const bar = showProgress ? new ProgressBar(total, process.stderr, Date.now, tag) : null;
         const summary = await replay({
-          structure: s, messages: readCapture(o.capture, window), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
+          structure: s, messages: readCapture(o.capture, window, onGap), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
           deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
-          topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains, collectResults: collect, alarms: true,
+          topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains,
+          maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, collectResults: collect, alarms: true,
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
           onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
         });
@@ -89,6 +97,9 @@ export function replayCommand(): Command {
         : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
       const first = await run(structure, o.runTag, sink, o.report !== undefined);
       process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitions.length} alarm transitions\n`);
+      const lost = gaps.reduce((n, g) => n + (g.messages ?? 0), 0);
+      const gapSummary = `${gaps.length} capture gap${gaps.length === 1 ? '' : 's'}, ${lost} messages lost${gaps.some((g) => g.messages === null) ? ' (and some of unknown size)' : ''}`;
+      if (gaps.length > 0) process.stderr.write(`${gapSummary}: results and alarms of those periods are missing\n`);
       if (o.report) {
         const second = o.compareStructure
           ? await run(await loadStructureFile(o.compareStructure), `${o.runTag}-compare`, new MemorySink(), true)
@@ -96,7 +107,7 @@ export function replayCommand(): Command {
         const html = renderReport({
           title: `${structure.config.structure.name} - replay ${o.runTag}`, structureId: structure.structureId, generatedAtMs: Date.now(),
           run: { label: o.structure ?? 'configuration', results: first.collected }, alarms: first.transitions.map(reportAlarm),
-          limits: reportLimits(structure.alarms),
+          limits: reportLimits(structure.alarms), captureGaps: gaps,
           comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
         });
         await writeFile(await ensureParent(o.report), html);
@@ -106,7 +117,14 @@ export function replayCommand(): Command {
           process.stderr.write(`PDF written to ${o.reportPdf}\n`);
         }
       }
+      if (gaps.length > 0 && !o.acceptGaps) throw new CaptureGapsError(`${gapSummary}; the output is written; --accept-gaps to accept them`);
     });
+}
+
+/** One line per gap for the operator. */
+function gapLine(g: CaptureGap): string {
+  const count = g.messages === null ? 'an unknown number of messages' : `${g.messages} message${g.messages === 1 ? '' : 's'}`;
+  return `capture gap: ${count} lost between ${new Date(g.fromMs).toISOString()} and ${new Date(g.toMs).toISOString()} in ${g.file} (${g.reason})`;
 }
 
 async function countInWindow(dir: string, w: { fromMs?: number; toMs?: number }): Promise<number> {

@@ -60,7 +60,7 @@ describe('capture durable() (group commit)', () => {
     const filler = join(mountPoint, 'filler');
     const failures: Array<string | null> = [];
     const w = await CaptureWriter.open({
-      dir, rotateBytes: 1e9, rotateEvery_ms: 3_600_000, now: () => T0, syncDelay_ms: 5, retryDelay_ms: 20,
+      dir, rotateBytes: 1e9, rotateEvery_ms: 3_600_000, now: () => T0, syncDelay_ms: 5, retryDelay_ms: 500,
       onWritable: (f) => failures.push(f),
     });
     // Leave about 24 KiB free, then offer 1,000 records of ~110 bytes of capture each once compressed.
@@ -69,7 +69,8 @@ describe('capture durable() (group commit)', () => {
     for (; i < 1000; i++) w.append(msg(i));
     let settled = false;
     const durable = w.durable().then(() => { settled = true; });
-    await new Promise((r) => setTimeout(r, 200));
+    while (failures.length === 0) await new Promise((r) => setTimeout(r, 5));
+    // Looked at before the next try (500 ms later): the failed write was cut off the file.
     expect(settled).toBe(false); // not on disk, so not durable
     expect(failures).toHaveLength(1);
     expect(failures[0]).toMatch(/ENOSPC/);

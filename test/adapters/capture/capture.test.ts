@@ -140,7 +140,7 @@ describe('raw capture', () => {
     expect(JSON.parse(await readFile(join(dir, CAPTURE_INDEX_NAME), 'utf8')).files.length).toBe(2);
   });
 
-  it('a batch whose bytes were altered fails its CRC and ends the readable part of the file', async () => {
+  it('a batch whose bytes were altered fails its CRC: it is left out and reported as a gap of its size', async () => {
     const w = await CaptureWriter.open(options());
     for (let b = 0; b < 3; b++) {
       w.append(msg(b));
@@ -151,7 +151,9 @@ describe('raw capture', () => {
     const bytes = await readFile(join(dir, name));
     bytes[bytes.length - 6] ^= 0xff; // inside the last member's trailer (ISIZE)
     await writeFile(join(dir, name), bytes);
-    expect((await all(readCapture(dir))).map((m) => m.arrivalMs)).toEqual([T0, T0 + 1000]);
+    const gaps: unknown[] = [];
+    expect((await all(readCapture(dir, {}, (g) => gaps.push(g)))).map((m) => m.arrivalMs)).toEqual([T0, T0 + 1000]);
+    expect(gaps).toMatchObject([{ messages: 1, fromMs: T0 + 2000, toMs: T0 + 2000 }]); // the member's own figures
   });
 
   it('retention deletes files older than the age limit and the oldest beyond the byte limit', async () => {

@@ -20,7 +20,9 @@ export function runCommand(): Command {
       const o = parseOptions(RunOptionsSchema, raw);
       const log = pino({ name: 'strainward' }, pino.destination(2));
       const loaded = await loadRuntimeFile(o.config);
-      const live = await startLive(loaded, { now: Date.now, log: (event, detail) => log.info({ event, ...detail }) });
+      const live = await startLive(loaded, {
+        now: Date.now, log: (event, detail) => log.info({ event, ...detail }), warn: (event, detail) => log.warn({ event, ...detail }),
+      });
       log.info({ event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion });
       const timer = o.statusEvery > 0 ? setInterval(() => log.info({ event: 'status', ...live.status() }), o.statusEvery * 1000) : null;
       await new Promise<void>((done) => {

@@ -16,6 +16,7 @@ export const QUALITY_FLAGS = [
   'reading_spike', // an element or companion reading was a spike: an excursion that came back at once
   'reading_suspect', // such an excursion had not been judged when the wait for the next readings ran out
   'reading_flatline', // an element or companion channel has not changed over the flat-line window
+  'residual_drift', // redundant group: the residual averaged over recent samples stands clear of its noise (pipeline/residual-drift.ts)
 ] as const;
 
 export type QualityFlag = (typeof QUALITY_FLAGS)[number];

@@ -1,5 +1,7 @@
 import type { CompiledGroup, CompiledStructure, TemperatureChannel } from '../config/compile.js';
-import { BIT_TEMPERATURE_MISSING, BIT_TEMPERATURE_STALE, evaluateGroup } from '../mechanics/evaluate-group.js';
+import {
+  BIT_ELEMENT_MISSING, BIT_ELEMENT_OUT_OF_RANGE, BIT_TEMPERATURE_MISSING, BIT_TEMPERATURE_STALE, BIT_UNDERDETERMINED, evaluateGroup,
+} from '../mechanics/evaluate-group.js';
 import { createGroupOutput, type GroupOutput } from '../mechanics/group-model.js';
 import { qualityBit } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
@@ -8,10 +10,14 @@ import { toGroupResult } from '../results/group-result.js';
 import { groupTemperatureAt, groupWaitsForTemperature, type GroupTemperature } from './group-join.js';
 import { TemperatureHistory } from './temperature-history.js';
 import { CHANNEL_FLATLINE, CHANNEL_HELD, CHANNEL_SPIKE, ChannelScreen, type FrameScreen } from './channel-screen.js';
+import { newResidualDrift, residualDriftStep, type ResidualDrift } from './residual-drift.js';
 
 const BIT_READING_SPIKE = qualityBit('reading_spike');
 const BIT_READING_SUSPECT = qualityBit('reading_suspect');
 const BIT_READING_FLATLINE = qualityBit('reading_flatline');
+const BIT_RESIDUAL_DRIFT = qualityBit('residual_drift');
+/** Samples that must not feed the residual average: an element missing, or a reading judged (or not yet cleared) a spike. */
+const NOT_FOR_DRIFT = BIT_ELEMENT_MISSING | BIT_ELEMENT_OUT_OF_RANGE | BIT_UNDERDETERMINED | BIT_READING_SPIKE | BIT_READING_SUSPECT;
 
 /** A frame waiting: for temperature, or for the readings that judge one of its excursions. */
 interface HeldFrame<M> {
@@ -36,6 +42,8 @@ interface GroupRuntime {
   raw: Float64Array;
   out: GroupOutput;
   temperature: GroupTemperature;
+  /** Redundant groups only: the averaged residual (residual-drift.ts). */
+  drift: ResidualDrift | null;
   evaluated: number;
   withheld: number;
 }
@@ -84,7 +92,8 @@ export class FrameProcessor<M> {
     for (const g of structure.groups) {
       this.groups.set(g.config.id, {
         group: g, raw: new Float64Array(g.model.m), out: createGroupOutput(g.model.m),
-        temperature: { valueC: Number.NaN, ageS: Number.NaN, stale: false }, evaluated: 0, withheld: 0,
+        temperature: { valueC: Number.NaN, ageS: Number.NaN, stale: false },
+        drift: g.model.m > g.model.n ? newResidualDrift(g.model.m) : null, evaluated: 0, withheld: 0,
       });
     }
   }
@@ -190,6 +199,10 @@ export class FrameProcessor<M> {
         continue;
       }
       evaluateGroup(g.model, rt.raw, t.valueC, comp === null || comp === undefined ? Number.NaN : comp, rt.out);
+      if (rt.drift !== null) {
+        if (((rt.out.flags | extra) & NOT_FOR_DRIFT) === 0) residualDriftStep(rt.drift, rt.out.elementResidualMicro, g.model.m);
+        if (rt.drift.drifting) extra |= BIT_RESIDUAL_DRIFT;
+      }
       rt.evaluated++;
       this.counts.results++;
       results.push(toGroupResult(this.structure.structureId, g, rt.out, frame.timeMs, frame.seq, extra, t.ageS));

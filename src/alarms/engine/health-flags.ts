@@ -18,6 +18,8 @@ export const FLAG_HEALTH_CHECK: Readonly<Record<QualityFlag, HealthCheck>> = {
   reading_spike: 'spike',
   reading_suspect: 'spike',
   reading_flatline: 'flatline',
+  // An element drifting before one sample's residual passes the limit: the same check, raised earlier.
+  residual_drift: 'residual_high',
 };
 
 const FLAG_CHECKS = ['residual_high', 'temperature_stale', 'result_incomplete'] as const;

@@ -6,7 +6,8 @@ import type { DeadLetterSink } from './sink.js';
 /**
  * Appends dead letters to an NDJSON file, one JSON record per line. Each write is one `appendFile`
  * of a whole line followed by `datasync`, so a crash leaves at most the last line incomplete.
- * Writes are serialised (one chain) to keep lines whole and in order.
+ * Writes are serialised (one chain) to keep lines whole and in order. A new file is created 0600
+ * (it holds the original payloads).
  */
 export class NdjsonFileDeadLetterSink implements DeadLetterSink {
   private handle: Promise<FileHandle> | null = null;
@@ -34,7 +35,7 @@ export class NdjsonFileDeadLetterSink implements DeadLetterSink {
   }
 
   private file(): Promise<FileHandle> {
-    this.handle ??= mkdir(dirname(this.path), { recursive: true }).then(() => open(this.path, 'a'));
+    this.handle ??= mkdir(dirname(this.path), { recursive: true }).then(() => open(this.path, 'a', 0o600));
     return this.handle;
   }
 }

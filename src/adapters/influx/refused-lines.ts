@@ -10,5 +10,5 @@ import { join } from 'node:path';
 export async function setAsideRefused(dir: string, lines: readonly string[], nowMs: number): Promise<void> {
   const refusedDir = join(dir, 'refused');
   await mkdir(refusedDir, { recursive: true });
-  await appendFile(join(refusedDir, `refused-${new Date(nowMs).toISOString().slice(0, 10)}.lp`), lines.join('\n') + '\n');
+  await appendFile(join(refusedDir, `refused-${new Date(nowMs).toISOString().slice(0, 10)}.lp`), lines.join('\n') + '\n', { mode: 0o600 });
 }

@@ -96,7 +96,7 @@ export class LineFileSink implements PointSink {
     // the next free millisecond, so that name order stays time order.
     let name = this.nameAt(now);
     for (let n = 1; existing.has(name); n++) name = this.nameAt(now + n);
-    this.handle = await open(join(this.opts.dir, name), 'a');
+    this.handle = await open(join(this.opts.dir, name), 'a', 0o600); // the structure's data: owner only
     this.fileName = name;
     this.fileBytes = 0;
     this.fileStartMs = now;

@@ -18,10 +18,10 @@ export interface AlarmLog {
   close(): Promise<void>;
 }
 
-/** Open (creating folders) the NDJSON alarm log at `path` for appending. */
+/** Open (creating folders) the NDJSON alarm log at `path` for appending; a new log is created 0600. */
 export async function openAlarmLog(path: string): Promise<AlarmLog> {
   await mkdir(dirname(path), { recursive: true });
-  const fh: FileHandle = await open(path, 'a');
+  const fh: FileHandle = await open(path, 'a', 0o600);
   let chain: Promise<void> = Promise.resolve();
   const append = (line: AlarmLogLine): Promise<void> => {
     chain = chain.then(() => fh.appendFile(`${JSON.stringify(line)}\n`, 'utf8'));

@@ -79,7 +79,7 @@ describe('live page of npm start, in a browser', () => {
     // Instrument health lists every logger, receiving.
     await page.locator('details.logger[data-logger="lg-pier"] summary').filter({ hasText: 'receiving' }).waitFor({ timeout: 10_000 });
     expect(await page.locator('details.logger').count()).toBe(4);
-    expect(await page.locator('#processor-figures').innerText()).toMatch(/messages in\s+\d+\.\d \/s/);
+    expect(await page.locator('#processor-figures').innerText()).toMatch(/messages in \(last 10 s\)\s+\d+\.\d \/s/);
   }, 60_000);
 
   it('shows the heavy vehicle\'s alarm; a refused acknowledgement says so; an accepted one is in the alarm log with who and why', async () => {

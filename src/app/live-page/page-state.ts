@@ -88,7 +88,12 @@ export interface PageState {
   alarms: Map<string, Alarm>;
   refusals: AckRefusal[];
   processor: { atMs: number; sample: ProcessorSample; rates: { messagesPerS: number; resultsPerS: number; rejectedPerS: number } | null } | null;
+  /** Recent processor samples, oldest first, over at most RATE_WINDOW_MS: rates are averaged over them. */
+  samples: Array<{ atMs: number; sample: ProcessorSample }>;
 }
+
+/** Rates are averaged over this long (results come in bursts when held frames get their temperature). */
+export const RATE_WINDOW_MS = 10_000;
 
 /** Refusals kept for the page (newest first). */
 export const MAX_REFUSALS = 20;
@@ -107,7 +112,7 @@ export function initialPageState(
     }
     loggers.set(id, { id, zone: l.zone, location: l.location, expectedIntervalS: l.expectedIntervalS, frames: 0, lastArrivalMs: null, lastTimeMs: null, lastSeq: null, seqGaps: 0, channels });
   }
-  return { structureId: structure.structureId, structureName: structure.name, notice, trendS: trend_s, clockMs: Number.NEGATIVE_INFINITY, groups, loggers, alarms: new Map(), refusals: [], processor: null };
+  return { structureId: structure.structureId, structureName: structure.name, notice, trendS: trend_s, clockMs: Number.NEGATIVE_INFINITY, groups, loggers, alarms: new Map(), refusals: [], processor: null, samples: [] };
 }
 
 /**
@@ -166,12 +171,15 @@ export function reducePage(state: PageState, event: PageEvent): PageState {
       if (state.refusals.length > MAX_REFUSALS) state.refusals.length = MAX_REFUSALS;
       return state;
     case 'processor': {
-      const prev = state.processor;
-      const dt = prev === null ? 0 : (event.atMs - prev.atMs) / 1000;
-      const rates = prev === null || dt <= 0 ? prev?.rates ?? null : {
-        messagesPerS: (event.sample.messages - prev.sample.messages) / dt,
-        resultsPerS: (event.sample.results - prev.sample.results) / dt,
-        rejectedPerS: (event.sample.rejected - prev.sample.rejected) / dt,
+      const samples = state.samples;
+      samples.push({ atMs: event.atMs, sample: event.sample });
+      while (samples.length > 2 && event.atMs - samples[1].atMs >= RATE_WINDOW_MS) samples.shift();
+      const first = samples[0];
+      const dt = (event.atMs - first.atMs) / 1000;
+      const rates = dt <= 0 ? state.processor?.rates ?? null : {
+        messagesPerS: (event.sample.messages - first.sample.messages) / dt,
+        resultsPerS: (event.sample.results - first.sample.results) / dt,
+        rejectedPerS: (event.sample.rejected - first.sample.rejected) / dt,
       };
       state.processor = { atMs: event.atMs, sample: event.sample, rates };
       return state;

@@ -119,7 +119,7 @@ describe('live page reducer', () => {
     expect(v.refusals[0].user).toBe(`u${MAX_REFUSALS + 4}`);
   });
 
-  it('turns processor counters into rates between samples', () => {
+  it('turns processor counters into rates averaged over the last 10 s', () => {
     const s = fresh();
     reducePage(s, { type: 'processor', atMs: T0, sample: sample(100, 180) });
     expect(pageView(s, () => 0).processor?.rates).toBeNull();
@@ -127,9 +127,10 @@ describe('live page reducer', () => {
     const p = pageView(s, () => 0).processor!;
     expect(p.rates).toEqual({ messagesPerS: 100, resultsPerS: 200, rejectedPerS: 2 });
     expect(p.heldAcks).toBe(3);
-    // A sample at the same instant keeps the last rates instead of dividing by zero.
-    reducePage(s, { type: 'processor', atMs: T0 + 2000, sample: sample(300, 580, 4) });
-    expect(pageView(s, () => 0).processor!.rates).toEqual({ messagesPerS: 100, resultsPerS: 200, rejectedPerS: 2 });
+    // Later samples: the rate covers the last 10 s only (T0 + 2 s .. T0 + 12 s).
+    for (let k = 3; k <= 12; k++) reducePage(s, { type: 'processor', atMs: T0 + k * 1000, sample: sample(300 + (k - 2) * 50, 580 + (k - 2) * 20, 4) });
+    expect(pageView(s, () => 0).processor!.rates).toEqual({ messagesPerS: 50, resultsPerS: 20, rejectedPerS: 0 });
+    expect(s.samples.length).toBe(11);
   });
 });
 

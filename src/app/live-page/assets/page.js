@@ -264,8 +264,8 @@ function renderProcessor(view) {
   const db = !p.databaseConfigured ? 'none configured: results go to line-protocol files'
     : p.databaseReachable === true ? '✓ reachable' : p.databaseReachable === false ? '✕ NOT reachable: results are spooled on disk' : 'not known yet';
   const items = [
-    ['messages in', r ? `${fmt(r.messagesPerS)} /s` : '—'],
-    ['results computed', r ? `${fmt(r.resultsPerS)} /s` : '—'],
+    ['messages in (last 10 s)', r ? `${fmt(r.messagesPerS)} /s` : '—'],
+    ['group results computed (last 10 s)', r ? `${fmt(r.resultsPerS)} /s` : '—'],
     ['messages refused (dead letters)', `${r ? `${fmt(r.rejectedPerS)} /s, ` : ''}${p.rejected} since start`],
     ['backlog: messages not yet stored (acknowledgement held)', String(p.heldAcks)],
     ['write errors since start', String(p.writeErrors)],

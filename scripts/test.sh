@@ -29,3 +29,5 @@ fi
 npm ci
 npx tsc --noEmit -p .
 npx vitest run
+# The fault proof: the live job through processor, broker, database and disk faults, counted (needs root: tmpfs).
+npm run test:faults

@@ -74,7 +74,7 @@ describe('strainward replay', () => {
     expect(html).toContain(corrected);
     // 50 microstrain less indicated on steel, E = 210000 MPa, nu = 0.3, gauge Kt = 0.009 calibrated at nu0 = 0.285:
     // under uniaxial stress the gauge reads eps (1 - nu Kt) / (1 - nu0 Kt) (transverse sensitivity, Dally and Riley,
-    // Experimental Stress Analysis), so sigma changes by -E 50e-6 (1 - nu0 Kt) / (1 - nu Kt) = -10.5014 MPa.
+    // Experimental Stress Analysis; from memory), so sigma changes by -E 50e-6 (1 - nu0 Kt) / (1 - nu Kt) = -10.5014 MPa.
     const row = (group: string, quantity: string) => {
       const m = html.match(new RegExp(`<tr data-group="${group}" data-quantity="${quantity}">.*?</tr>`));
       expect(m, `${group} ${quantity}`).not.toBeNull();

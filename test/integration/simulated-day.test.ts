@@ -196,7 +196,7 @@ describe('a simulated compressed day through the live pipeline', () => {
   });
 });
 
-/** Effective reading sd of a signal code (0 microstrain, 1 mV/V, 2 Hz, 3 digits): sqrt(sigma^2 + step^2 / 12). */
+/** Effective reading sd of a signal code (0 microstrain, 1 mV/V, 2 Hz, 3 digits): sqrt(sigma^2 + step^2 / 12), q^2/12 the variance of a uniform rounding error (common practice). */
 function readingSd(scn: Scenario, signal: number): number {
   const unit = (['microstrain', 'mV/V', 'Hz', 'digits'] as const)[signal];
   return Math.sqrt(scn.noise.sigma[unit] ** 2 + scn.noise.step[unit] ** 2 / 12);

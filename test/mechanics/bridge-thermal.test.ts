@@ -53,6 +53,7 @@ describe('Wheatstone bridge equations', () => {
   });
 
   it('gauge factor changes linearly with temperature', () => {
+    // Linear model GF(T) = GF_ref (1 + c (T - T_ref)), c the fractional change per degC (common practice).
     expect(gaugeFactorAt(2.0, 1e-4, 74, 24)).toBeCloseTo(2.01, 12);
   });
 });

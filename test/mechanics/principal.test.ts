@@ -40,9 +40,12 @@ describe('principal values', () => {
   });
 
   it('von Mises of uniaxial stress is its magnitude and of pure shear sqrt(3) tau', () => {
-    // von Mises equivalent stress (common practice).
+    // von Mises equivalent stress, sqrt(((s1-s2)^2 + (s2-s3)^2 + (s3-s1)^2) / 2), in plane stress
+    // sqrt(sx^2 - sx sy + sy^2 + 3 txy^2) (common practice; any strength-of-materials text).
     expect(vonMises6(Float64Array.of(250, 0, 0, 0, 0, 0))).toBeCloseTo(250, 12);
     expect(vonMises2(0, 0, 100)).toBeCloseTo(100 * Math.sqrt(3), 12);
+    expect(vonMises2(120, -40, 30)).toBeCloseTo(Math.sqrt(120 * 120 + 120 * 40 + 40 * 40 + 3 * 900), 12);
+    // Tresca equivalent stress = largest difference of principal stresses (common practice).
     expect(tresca3(100, 0, -50)).toBe(150);
   });
 

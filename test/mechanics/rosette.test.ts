@@ -63,7 +63,7 @@ describe('rosette reduction against ASTM E1561 closed forms', () => {
 
 describe('transverse sensitivity', () => {
   it('matches the orthogonal-pair correction with calibration Poisson ratio 0.285', () => {
-    // Orthogonal pair correction (Dally and Riley, Experimental Stress Analysis, transverse sensitivity):
+    // Orthogonal pair correction (Dally and Riley, Experimental Stress Analysis, transverse sensitivity; from memory):
     // eps_x = (1 - nu0 Kt)(e'_x - Kt e'_y)/(1 - Kt^2), eps_y = (1 - nu0 Kt)(e'_y - Kt e'_x)/(1 - Kt^2), nu0 = 0.285.
     const kt = 0.04, nu0 = 0.285;
     const [ex, e45, ey] = [850, 260, -310];

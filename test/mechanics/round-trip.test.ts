@@ -11,6 +11,7 @@ import { baseDoc, compileOrThrow, STEEL } from '../support/structures.js';
  * the core, returns the stress. Tolerance 1e-6 MPa absolute + 1e-9 relative (double precision
  * through the bridge non-linearity and the pseudo-inverse).
  */
+// Round constants of the order of a carbon/epoxy ply (from memory): a round trip needs no reference values.
 const ORTHO = {
   id: 'ortho', kind: 'orthotropic', E1_MPa: 140000, E2_MPa: 10000, E3_MPa: 10000, nu12: 0.3, nu13: 0.3, nu23: 0.45,
   G12_MPa: 5000, G13_MPa: 5000, G23_MPa: 3448, alpha_per_degC: [-0.5e-6, 30e-6, 30e-6],

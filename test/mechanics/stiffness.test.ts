@@ -14,12 +14,13 @@ function expectIdentity(m: Float64Array, n: number, tol: number): void {
   for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) expect(Math.abs(m[i * n + j] - (i === j ? 1 : 0))).toBeLessThan(tol);
 }
 
+// Round constants of the order of a carbon/epoxy ply (from memory): inputs of identities below, not check values.
 const PLY = { E1: 140000, E2: 10000, E3: 10000, nu12: 0.3, nu13: 0.3, nu23: 0.45, G12: 5000, G13: 5000, G23: 3448 };
 
 describe('stiffness and compliance', () => {
   it('gives the Lame constants of E = 200 GPa, nu = 0.3', () => {
-    // lambda = E nu / ((1+nu)(1-2nu)), mu = E / (2(1+nu)): the standard isotropic relations (common practice);
-    // lambda = 115.38 GPa and mu = 76.92 GPa as tabulated to four figures.
+    // lambda = E nu / ((1+nu)(1-2nu)), mu = E / (2(1+nu)): the standard isotropic relations (common practice),
+    // worked by hand: lambda = 60 / (1.3 x 0.4) = 115.385 GPa, mu = 200 / 2.6 = 76.923 GPa.
     const { lambda, mu } = lameConstants(200, 0.3);
     expect(lambda).toBeCloseTo(115.38, 2);
     expect(mu).toBeCloseTo(76.92, 2);

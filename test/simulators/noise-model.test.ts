@@ -22,7 +22,7 @@ describe('noise model', () => {
       const free = m.companion ? concreteFreeStrainMicro(10e-6, tempC, m.zeroTempC, 0) : Number.NaN;
       const clean = new Float64Array(m.m);
       const cleanCompanion = cleanGroupReadings(g, stress, tempC, free, clean);
-      // Effective sd per reading: Gaussian sigma with the quantisation step's q^2/12 (see noise-model.ts).
+      // Effective sd per reading: Gaussian sigma with the quantisation step's variance q^2/12 (uniform rounding error; common practice).
       const sdOf = (unit: SignalUnit) => Math.sqrt(scn.noise.sigma[unit] ** 2 + scn.noise.step[unit] ** 2 / 12);
       const units = g.config.elements.map((e) => unitOf.get(e.gauge)!);
       const compUnit = 'companion_gauge' in g.config && g.config.companion_gauge ? unitOf.get(g.config.companion_gauge)! : 'microstrain';

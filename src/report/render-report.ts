@@ -5,7 +5,7 @@ import { groupSection } from './group-section.js';
 import { activeSpans, timelineChart } from './health-timeline.js';
 import { peaksByGroup } from './peaks.js';
 import { REPORT_CSS } from './style.js';
-import { alarmsTable, captureGapsTable, differencesTable, peaksTable } from './tables.js';
+import { alarmsTable, flaggedExtremesTable, captureGapsTable, differencesTable, peaksTable } from './tables.js';
 import type { ReportInput } from './types.js';
 
 /** The statements every report opens with (also checked by the tests). */
@@ -50,7 +50,9 @@ export function renderReport(input: ReportInput): string {
   }
 
   body.push('<h2 id="peaks">Peaks</h2>');
-  body.push(peaksTable(peaksByGroup(input.run.results)));
+  const peaks = peaksByGroup(input.run.results);
+  body.push(peaksTable(peaks));
+  body.push(flaggedExtremesTable(peaks));
 
   body.push('<h2 id="health">Instrument health</h2>');
   body.push(timelineChart(activeSpans(input.alarms, 'health'), fromMs, toMs, widthPx, 'Health alarms active'));

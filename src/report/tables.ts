@@ -1,6 +1,6 @@
 import type { QuantityDifference } from './compare.js';
 import { esc, isoTime, num } from './format.js';
-import type { Extreme, GroupPeaks } from './peaks.js';
+import type { Extreme, GroupPeaks, PeakKind } from './peaks.js';
 import type { ReportAlarmTransition, ReportCaptureGap } from './types.js';
 
 /** A numeric cell: shown rounded, the exact value kept in data-value. */
@@ -8,10 +8,19 @@ const cell = (v: number | undefined | null, digits = 2) =>
   v === undefined || v === null || !Number.isFinite(v) ? '<td class="n">–</td>' : `<td class="n" data-value="${v}">${num(v, digits)}</td>`;
 const ext = (e: Extreme | null) => (e ? `${cell(e.value)}<td>${esc(isoTime(e.timeMs))}</td>` : '<td class="n">–</td><td>–</td>');
 
-/** Peak table: per group max von Mises, max and min principal stress, with times. Pure. */
+/** Peak table: per group max von Mises, max and min principal stress, with times, from trusted results only. Pure. */
 export function peaksTable(peaks: readonly GroupPeaks[]): string {
-  const rows = peaks.map((p) => `<tr data-group="${esc(p.groupId)}"><td>${esc(p.groupId)}</td>${ext(p.maxVonMises)}${ext(p.maxPrincipal)}${ext(p.minPrincipal)}<td class="n">${p.samples}</td></tr>`);
-  return `<table class="peaks"><thead><tr><th>group</th><th>max von Mises, MPa</th><th>at (UTC)</th><th>max principal, MPa</th><th>at (UTC)</th><th>min principal, MPa</th><th>at (UTC)</th><th>results</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+  const rows = peaks.map((p) => `<tr data-group="${esc(p.groupId)}"><td>${esc(p.groupId)}</td>${ext(p.maxVonMises)}${ext(p.maxPrincipal)}${ext(p.minPrincipal)}<td class="n">${p.trusted} of ${p.samples}</td></tr>`);
+  return `<p>Peaks come from results without a quality flag only.</p><table class="peaks"><thead><tr><th>group</th><th>max von Mises, MPa</th><th>at (UTC)</th><th>max principal, MPa</th><th>at (UTC)</th><th>min principal, MPa</th><th>at (UTC)</th><th>results without a flag</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+}
+
+const PEAK_LABELS: Readonly<Record<PeakKind, string>> = { maxVonMises: 'max von Mises', maxPrincipal: 'max principal', minPrincipal: 'min principal' };
+
+/** Flagged results beyond the trusted peaks, with their flags: listed apart, never as peaks. Pure. */
+export function flaggedExtremesTable(peaks: readonly GroupPeaks[]): string {
+  const rows = peaks.flatMap((p) => p.flagged.map((f) => `<tr class="flagged" data-group="${esc(p.groupId)}" data-kind="${f.kind}"><td>${esc(p.groupId)}</td><td>${PEAK_LABELS[f.kind]}</td>${cell(f.value)}<td>${esc(isoTime(f.timeMs))}</td><td>${esc(f.flags.join(', '))}</td></tr>`));
+  if (rows.length === 0) return '<p>No flagged result goes beyond these peaks.</p>';
+  return `<p class="warning">Flagged results beyond these peaks: values computed from doubtful readings (see their flags and the instrument-health alarms). They are not the structure's peaks; check the instrument before reading anything into them.</p><table class="flagged-extremes"><thead><tr><th>group</th><th>quantity</th><th>value, MPa</th><th>at (UTC)</th><th>flags</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
 }
 
 /** Every alarm transition in time order. Pure. */

@@ -82,8 +82,7 @@ export function toAlarmInputs(output: FrameOutput<unknown>): AlarmInput[] {
   if (output.kind === 'tick') return [{ type: 'tick', nowMs: output.nowMs }];
   // Health sees the frame on arrival; its results follow once computed (they may wait for temperature).
   if (output.kind === 'received') return [{ type: 'frame', frame: output.frame }];
-  /** Per logger: scans whose `seq` went back or repeated, and counter restarts among them. */
-  sequences: Record<string, { backwards: number; repeated: number; restarts: number }>;
+  if (output.kind === 'refused') return [{ type: 'refused', loggerId: output.loggerId, timeMs: output.timeMs, arrivalMs: output.arrivalMs, codes: output.codes }];
   return output.results.map((result): AlarmInput => ({ type: 'result', result }));
 }
 

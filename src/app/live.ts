@@ -115,7 +115,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   ).pipe(takeUntil(stop$));
   // Connected once every consumer (alarms, write-and-acknowledge) has subscribed.
   const processed$ = connectable(inputs$.pipe(pipeline<PipelineMessage>({
-    structure, topicPattern, deadLetters, decodeCounts, processor: processor as FrameProcessor<unknown>,
+    structure, topicPattern, deadLetters, decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: rc.ingest.max_future_s * 1000,
     record: capture ? (raw) => capture.append(raw) : undefined,
     onDeadLetterError: (err) => deps.log('dead_letter_failed', { message: String(err) }),
   })), { connector: () => new Subject<FrameOutput<PipelineMessage>>(), resetOnDisconnect: false });

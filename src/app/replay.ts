@@ -33,6 +33,8 @@ export interface ReplayOptions {
   /** Keep every result in memory (for the diagnosis report). */
   collectResults?: boolean;
   onMessage?: (count: number, raw: RawMessage) => void;
+  /** Largest logger time ahead of arrival accepted, ms (the runtime file's `ingest.max_future_s`); default as live. */
+  maxFutureMs?: number;
   /** Run the structure's alarms too (its `alarms` section): transitions to the sink and the summary; deliveries recorded, not sent. */
   alarms?: boolean;
   /** Further consumers of the processed stream, subscribed before it starts. */
@@ -75,7 +77,7 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   );
   const processed$ = source$.pipe(filter((i) => !isCommand(i)), pipeline<PipelineMessage>({
     structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters: o.deadLetters,
-    decodeCounts, processor: processor as FrameProcessor<unknown>,
+    decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: o.maxFutureMs,
   }));
   o.attach?.(processed$);
   const transitions: AlarmTransition[] = [];

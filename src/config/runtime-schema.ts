@@ -125,6 +125,15 @@ export const RuntimeConfigSchema = z.strictObject({
     /** A line shown on top of the page, e.g. that the data is simulated. */
     notice: z.string().min(1).max(500).optional(),
   }).optional(),
+  /** What the decoder accepts from loggers. */
+  ingest: z.strictObject({
+    /**
+     * A logger timestamp more than this ahead of the message's arrival (the processor's clock; in a
+     * replay the arrival recorded in the capture) is refused (dead letter `future_timestamp`) and
+     * raises the logger's clock_offset alarm. Keep it above the alarm's `ahead_s`.
+     */
+    max_future_s: z.number().finite().min(0).default(5),
+  }).default({ max_future_s: 5 }),
   /** Pipeline clock tick: drives waits, no-data detection and escalation. */
   tick_ms: duration_ms.default(1000),
 });

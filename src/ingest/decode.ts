@@ -6,7 +6,26 @@ import { jsonShapeProblem, MAX_JSON_DEPTH } from './json-guard.js';
 import { parseLoggerTimestamp, schemaFor } from './payload-schema.js';
 import { parseTopic, type TopicPattern } from './topic.js';
 
-export type DecodeResult = { ok: true; frame: LoggerFrame } | { ok: false; deadLetter: DeadLetter };
+/**
+ * A refusal also says which configured logger sent it and the time it gave, when those could be
+ * read: a refused message is still evidence about its logger (its clock, for one).
+ */
+export type DecodeResult =
+  | { ok: true; frame: LoggerFrame }
+  | { ok: false; deadLetter: DeadLetter; loggerId: string | null; timeMs: number | null };
+
+/**
+ * How far ahead of the processor's clock (the message's arrival time) a logger's timestamp may be,
+ * ms, unless configured (`ingest.max_future_s`). Transport only delays a message, so a reading from
+ * the future is a wrong logger clock; accepted, it would be the newest temperature of every later
+ * interpolation and hold every later scan of its logger waiting for a temperature after it.
+ */
+export const DEFAULT_MAX_FUTURE_MS = 5_000;
+
+export interface DecodeLimits {
+  /** Largest accepted logger time minus arrival time, ms. */
+  maxFutureMs: number;
+}
 
 type Issue = { code: string; path: PropertyKey[]; message: string; keys?: string[] };
 
@@ -19,14 +38,16 @@ const NON_FINITE_TEXT = /^\s*[+-]?(nan|inf|infinity)\s*$/i;
  * (topic, JSON, schema, unknown logger or channel, non-finite numbers, timestamp) at once.
  * Pure: reads nothing but its arguments, mutates nothing.
  */
-export function decodeMessage(raw: RawMessage, directory: ChannelDirectory, pattern: TopicPattern): DecodeResult {
+export function decodeMessage(
+  raw: RawMessage, directory: ChannelDirectory, pattern: TopicPattern, limits: DecodeLimits = { maxFutureMs: DEFAULT_MAX_FUTURE_MS },
+): DecodeResult {
   const rejections: Rejection[] = [];
   const loggerId = knownLogger(raw.topic, directory, pattern, rejections);
 
   const parsed = parseJson(raw.payload);
   if (!parsed.ok) {
     rejections.push(parsed.rejection);
-    return { ok: false, deadLetter: toDeadLetter(raw, rejections) };
+    return { ok: false, deadLetter: toDeadLetter(raw, rejections), loggerId, timeMs: null };
   }
   const input = parsed.value;
   const result = schemaFor(input).safeParse(input);
@@ -41,6 +62,15 @@ export function decodeMessage(raw: RawMessage, directory: ChannelDirectory, patt
       const t = parseLoggerTimestamp(ts);
       if (t.ok) timeMs = t.timeMs;
       else rejections.push({ code: 'invalid_timestamp', path: 'ts', reason: `ts: ${t.reason}` });
+      // The arrival time is the processor's clock, live and in replay (recorded in the capture).
+      const aheadMs = timeMs - raw.arrivalMs;
+      if (aheadMs > limits.maxFutureMs) {
+        rejections.push({
+          code: 'future_timestamp', path: 'ts',
+          reason: `ts: ${new Date(timeMs).toISOString()} is ${(aheadMs / 1000).toFixed(1)} s ahead of the processor's clock `
+            + `(arrival ${new Date(raw.arrivalMs).toISOString()}), more than ingest.max_future_s = ${limits.maxFutureMs / 1000} s: check the logger's clock`,
+        });
+      }
     }
     // A message naming a channel the configuration does not know is refused whole, not
     // half-processed: such a logger is misconfigured (wrong program, swapped cable map), and
@@ -60,7 +90,7 @@ export function decodeMessage(raw: RawMessage, directory: ChannelDirectory, patt
   }
 
   if (rejections.length > 0 || !result.success || loggerId === null) {
-    return { ok: false, deadLetter: toDeadLetter(raw, rejections) };
+    return { ok: false, deadLetter: toDeadLetter(raw, rejections), loggerId, timeMs: Number.isNaN(timeMs) ? null : timeMs };
   }
   const data = result.data;
   const values = new Map<string, number | null>();

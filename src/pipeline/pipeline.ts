@@ -1,6 +1,6 @@
 import { Observable, share, type OperatorFunction } from 'rxjs';
 import type { CompiledStructure } from '../config/compile.js';
-import { decodeMessage } from '../ingest/decode.js';
+import { DEFAULT_MAX_FUTURE_MS, decodeMessage } from '../ingest/decode.js';
 import { newDecodeCounts, type DecodeCounts } from '../ingest/decode-operator.js';
 import type { TopicPattern } from '../ingest/topic.js';
 import type { RawMessage } from '../model/raw-message.js';
@@ -28,6 +28,8 @@ export interface PipelineDeps {
   /** The frame processor (pass one to read its counters). */
   processor?: FrameProcessor<unknown>;
   onDeadLetterError?: (err: unknown) => void;
+  /** Largest logger time ahead of arrival accepted, ms (`ingest.max_future_s`); default DEFAULT_MAX_FUTURE_MS. */
+  maxFutureMs?: number;
 }
 
 /**
@@ -51,18 +53,25 @@ function decodeInputs<M extends PipelineMessage>(deps: PipelineDeps, counts: Dec
     counts.deadLetterFailures++;
     try { deps.onDeadLetterError?.(err); } catch { /* a failing reporter must not stop ingest */ }
   };
+  const limits = { maxFutureMs: deps.maxFutureMs ?? DEFAULT_MAX_FUTURE_MS };
   return (source) => new Observable<FrameInput<M>>((subscriber) => source.subscribe({
     next(input) {
       if (input.kind === 'tick') return subscriber.next(input);
       const { message } = input;
       try { deps.record?.(message.raw); } catch (err) { failed(err); }
-      const r = decodeMessage(message.raw, deps.structure.directory, deps.topicPattern);
+      const r = decodeMessage(message.raw, deps.structure.directory, deps.topicPattern, limits);
       if (r.ok) {
         counts.accepted++;
         subscriber.next({ kind: 'frame', frame: r.frame, message });
         return;
       }
       counts.rejected++;
+      if (r.loggerId !== null) {
+        subscriber.next({
+          kind: 'refused', loggerId: r.loggerId, timeMs: r.timeMs, arrivalMs: message.raw.arrivalMs,
+          codes: r.deadLetter.rejections.map((x) => x.code),
+        });
+      }
       // Acknowledge once recorded; if the record fails, acknowledge anyway (counted): a poison
       // message redelivered forever would block the session for every good message behind it.
       deps.deadLetters.write(r.deadLetter).catch(failed).finally(() => message.ack());

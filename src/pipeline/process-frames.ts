@@ -1,10 +1,25 @@
 import { Observable, type OperatorFunction } from 'rxjs';
 import type { CompiledStructure } from '../config/compile.js';
 import type { LoggerFrame } from '../model/raw-message.js';
+import type { Rejection } from '../model/rejection.js';
 import { FrameProcessor, type ProcessedFrame } from './frame-processor.js';
 
-/** What the processing stage takes: decoded frames, and ticks that advance the pipeline clock. */
-export type FrameInput<M> = { kind: 'frame'; frame: LoggerFrame; message: M } | PipelineTick;
+/** What the processing stage takes: decoded frames, ticks that advance the pipeline clock, refusals. */
+export type FrameInput<M> = { kind: 'frame'; frame: LoggerFrame; message: M } | PipelineTick | RefusedMessageOutput;
+
+/**
+ * A configured logger's message that the decoder refused (already dead-lettered and acknowledged):
+ * passed through untouched, as evidence about the logger for instrument health (a scan dated ahead
+ * of the processor's clock raises its clock alarm). Never data: it reaches no result.
+ */
+export interface RefusedMessageOutput {
+  kind: 'refused';
+  loggerId: string;
+  /** The logger's timestamp when readable, epoch ms; else null. */
+  timeMs: number | null;
+  arrivalMs: number;
+  codes: Rejection['code'][];
+}
 
 export interface PipelineTick {
   kind: 'tick';
@@ -16,7 +31,7 @@ export interface PipelineTick {
  * What it gives, in order: each frame as it is received (instrument health needs it at once, even
  * while its results wait for temperature), each frame once computed, and the ticks.
  */
-export type FrameOutput<M> = ({ kind: 'frame' } & ProcessedFrame<M>) | ReceivedFrame | PipelineTick;
+export type FrameOutput<M> = ({ kind: 'frame' } & ProcessedFrame<M>) | ReceivedFrame | PipelineTick | RefusedMessageOutput;
 
 export interface ReceivedFrame {
   kind: 'received';
@@ -38,6 +53,10 @@ export function processFrames<M>(
     const emit = (frames: ProcessedFrame<M>[]) => { for (const f of frames) subscriber.next({ kind: 'frame', ...f }); };
     return source.subscribe({
       next(input) {
+        if (input.kind === 'refused') {
+          subscriber.next(input);
+          return;
+        }
         if (input.kind === 'tick') {
           clockMs = Math.max(clockMs, input.nowMs);
           emit(processor.onTick(clockMs));

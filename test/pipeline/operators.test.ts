@@ -17,7 +17,7 @@ const structure = compileOrThrow(baseDoc(
 ));
 const frame = (loggerId: string, t: number, values: Record<string, number>): LoggerFrame =>
   ({ structureId: 'test-structure', loggerId, timeMs: t, seq: null, values: new Map(Object.entries(values)), arrivalMs: t });
-const label = (o: FrameOutput<string>) => (o.kind === 'tick' ? `tick${o.nowMs}` : o.kind === 'received' ? `in:${o.frame.loggerId}` : `out:${o.message}`);
+const label = (o: FrameOutput<string>) => (o.kind === 'tick' ? `tick${o.nowMs}` : o.kind === 'received' ? `in:${o.frame.loggerId}` : o.kind === 'refused' ? `refused:${o.loggerId}` : `out:${o.message}`);
 
 describe('processFrames (virtual time)', () => {
   it('passes frames in at once, computes them when temperature allows, passes ticks, and flushes on completion', () => {

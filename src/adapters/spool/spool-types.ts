@@ -17,7 +17,8 @@ export interface SpoolOptions {
   onHighWater?: (status: SpoolStatus) => void;
   /**
    * Called when appends start failing (full disk, I/O error, or the limit under `block`: `reason`
-   * says which) and again, with null, on the first append that succeeds after that.
+   * says which) and again, with null, on the first append that succeeds after that with room on
+   * the disk (min(1 MiB, a tenth of it) free), so the edge of a full disk does not flap.
    */
   onWritable?: (failure: string | null, status: SpoolStatus) => void;
 }

@@ -121,7 +121,9 @@ export class Spool {
         this.noteWritable(err instanceof Error ? err.message : String(err));
         throw err;
       }
-      this.noteWritable(null);
+      // Back to writable only with room on the disk: at the edge of a full disk small appends
+      // still fit now and then, and the alarm must not flap with them.
+      if (this.writeFailure === null || this.diskHasRoom()) this.noteWritable(null);
       this.checkHighWater();
     });
   }
@@ -146,6 +148,8 @@ export class Spool {
       if (!this.segments[index].sealed) await this.seal();
       await unlink(join(this.opts.dir, nameOf(id)));
       this.segments.splice(index, 1);
+      // Drained segments free the disk: writable again even if no append comes (the database took over).
+      if (this.writeFailure !== null && this.diskHasRoom()) this.noteWritable(null);
       this.checkHighWater();
     });
   }
@@ -229,6 +233,16 @@ export class Spool {
     const changed = (failure === null) !== (this.writeFailure === null);
     this.writeFailure = failure;
     if (changed) this.opts.onWritable?.(failure, this.status());
+  }
+
+  /** Free space of at least min(1 MiB, a tenth of the disk); true when it cannot be read. */
+  private diskHasRoom(): boolean {
+    try {
+      const s = statfsSync(this.opts.dir);
+      return s.bavail * s.bsize >= Math.min(1 << 20, (s.blocks * s.bsize) / 10);
+    } catch {
+      return true;
+    }
   }
 
   private diskFreeBytes(): number | null {

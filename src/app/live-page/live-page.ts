@@ -1,6 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { resolve } from 'node:path';
 import type { Observable, Subscription } from 'rxjs';
+import { inScope } from '../../alarms/engine/structural.js';
 import type { AlarmBatch } from '../../alarms/operator.js';
 import type { Alarm, AlarmLookups } from '../../alarms/types.js';
 import { startLivePageServer, type PageAckAnswer, type LivePageServer } from '../../adapters/http/live-page-server.js';
@@ -49,6 +50,16 @@ export function processorSample(
   };
 }
 
+/** The thresholds a group's von Mises stress is watched against (limit rules, above), lowest first. Pure. */
+export function vonMisesLimits(structure: CompiledStructure, groupId: string, zone: string): Array<{ level: string; value: number }> {
+  const out: Array<{ level: string; value: number }> = [];
+  for (const rule of structure.alarms?.rules ?? []) {
+    if (rule.kind !== 'limit' || rule.quantity !== 'von_mises_MPa' || rule.direction !== 'above' || !inScope(rule, groupId, zone)) continue;
+    for (const t of rule.thresholds) out.push({ level: t.level, value: t.value });
+  }
+  return out.sort((a, b) => a.value - b.value);
+}
+
 /** How long the page waits for the processor's verdict on an acknowledgement. */
 const VERDICT_TIMEOUT_MS = 15_000;
 
@@ -73,7 +84,7 @@ export async function openLivePage(cfg: LivePageConfig, baseDir: string, deps: L
   const c = deps.structure.config;
   const state = initialPageState({
     structureId: deps.structure.structureId, name: c.structure.name,
-    groups: c.groups.map((g) => ({ id: g.id, zone: g.zone, location: g.location, kind: g.kind, material: g.material })),
+    groups: c.groups.map((g) => ({ id: g.id, zone: g.zone, location: g.location, kind: g.kind, material: g.material, vonMisesLimits: vonMisesLimits(deps.structure, g.id, g.zone) })),
   }, deps.lookups, cfg.trend_s, 1000, cfg.notice ?? null);
   const apply = (e: PageEvent) => { reducePage(state, e); };
   const sentTrend = new Map<string, number>();

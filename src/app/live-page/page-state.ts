@@ -11,6 +11,8 @@ export interface PageGroupInfo {
   /** plane_rosette, solid_cluster, single. */
   kind: string;
   material: string;
+  /** Thresholds of the limit rules on von Mises stress (above) that cover the group, MPa, lowest first: drawn on the trend. */
+  vonMisesLimits: Array<{ level: string; value: number }>;
 }
 
 /** The processor's own counters, sampled by the composition root (cumulative since start). */

@@ -20,7 +20,7 @@ const lookups: AlarmLookups = {
 
 const fresh = (trend_s = 60) => initialPageState({
   structureId: 's', name: 'Test structure',
-  groups: [{ id: 'g1', zone: 'a', location: 'beam 1', kind: 'plane_rosette', material: 'steel' }, { id: 'g2', zone: 'b', location: 'beam 2', kind: 'single', material: 'steel' }],
+  groups: [{ id: 'g1', zone: 'a', location: 'beam 1', kind: 'plane_rosette', material: 'steel', vonMisesLimits: [] }, { id: 'g2', zone: 'b', location: 'beam 2', kind: 'single', material: 'steel', vonMisesLimits: [{ level: 'advisory', value: 55 }] }],
 }, lookups, trend_s);
 
 const result = (groupId: string, timeMs: number, values: GroupResult['values'], flags: GroupResult['flags'] = []): GroupResult => ({
@@ -141,5 +141,32 @@ describe('TrendRing', () => {
     r.add(T0 + 2600, 3, Number.NaN, -2);
     r.add(T0 + 1000, 7, 1, -9); // older than the newest bucket
     expect(r.since(Number.NEGATIVE_INFINITY)).toEqual([[T0 + 2000, 7, 5, -9]]);
+  });
+});
+
+describe('vonMisesLimits', () => {
+  it('lists the thresholds of the limit rules on von Mises that cover a group, lowest first', async () => {
+    const { compileOrThrow, baseDoc, microGauge } = await import('../../support/structures.js');
+    const { vonMisesLimits } = await import('../../../src/app/live-page/live-page.js');
+    const rule = (id: string, scope: unknown, quantity: string, direction: string, values: number[]) => ({
+      id, kind: 'limit', quantity, scope, direction, thresholds: values.map((value, i) => ({ level: ['low', 'high'][i], value })), action: 'look',
+    });
+    const s = compileOrThrow(baseDoc(
+      [{ id: 'r1', kind: 'single', material: 'steel', zone: 'deck', location: 'test beam', elements: [{ gauge: 'g1' }] }],
+      [microGauge('g1', 'ch1')],
+      { alarms: {
+        levels: ['low', 'high'],
+        rules: [
+          rule('all', { kind: 'structure' }, 'von_mises_MPa', 'above', [80, 120]),
+          rule('deck', { kind: 'zone', zone: 'deck' }, 'von_mises_MPa', 'above', [60]),
+          rule('named', { kind: 'groups', group_ids: ['r1'] }, 'von_mises_MPa', 'above', [70]),
+          rule('below', { kind: 'structure' }, 'von_mises_MPa', 'below', [-5]),
+          rule('axial', { kind: 'structure' }, 'stress_axial_MPa', 'above', [30]),
+        ],
+        health: { level: 'low' },
+        acknowledgement: { allowed_users: { structural: ['u'] } },
+      } },
+    ));
+    expect(vonMisesLimits(s, 'r1', 'deck')).toEqual([{ level: 'low', value: 60 }, { level: 'low', value: 70 }, { level: 'low', value: 80 }, { level: 'high', value: 120 }]);
   });
 });

@@ -54,7 +54,8 @@ function valueRows(g) {
   return rows;
 }
 
-function drawTrend(svg, points, id) {
+function drawTrend(svg, points, group) {
+  const id = group.id;
   svg.replaceChildren();
   const W = 320, H = 100, L = 44, R = 6, T = 14, B = 18;
   const vals = points.flatMap((p) => [p[1], p[2], p[3]]).filter((x) => x !== null);
@@ -70,7 +71,12 @@ function drawTrend(svg, points, id) {
   text(2, 10, 'MPa', 'start', 'axis unit');
   if (vals.length === 0) { text(W / 2, H / 2, 'no results yet', 'middle'); return; }
   let lo = Math.min(0, ...vals), hi = Math.max(0, ...vals);
+  // The first von Mises limit is in the plot when the data come within half of it; others when in range.
+  const limits = group.vonMisesLimits ?? [];
+  if (limits.length > 0 && limits[0].value <= 2 * hi) hi = Math.max(hi, limits[0].value * 1.05);
   if (hi - lo < 1) hi = lo + 1;
+  const above = limits.filter((l) => l.value > hi);
+  if (above.length > 0) text(W - R, 10, `von Mises limits above: ${above.map((l) => `${l.level} ${fmt(l.value, 0)}`).join(', ')} MPa`, 'end', 'axis');
   const tEnd = points[points.length - 1][0], tStart = tEnd - page.trendMs;
   const x = (t) => L + ((t - tStart) / page.trendMs) * (W - L - R);
   const y = (v) => T + (1 - (v - lo) / (hi - lo)) * (H - T - B);
@@ -82,6 +88,12 @@ function drawTrend(svg, points, id) {
   text(L - 4, y(hi) + 4, fmt(hi, 0), 'end');
   text(L - 4, y(lo) + 4, fmt(lo, 0), 'end');
   if (lo < 0 && hi > 0) text(L - 4, y(0) + 4, '0', 'end');
+  for (const l of limits.filter((x) => x.value <= hi)) {
+    const ln = document.createElementNS(SVG, 'line');
+    ln.setAttribute('x1', L); ln.setAttribute('x2', W - R); ln.setAttribute('y1', y(l.value)); ln.setAttribute('y2', y(l.value)); ln.setAttribute('class', 'limit');
+    svg.append(ln);
+    text(L + 3, y(l.value) - 2, `${l.level} limit ${fmt(l.value, 0)}`, 'start', 'axis limit-label');
+  }
   text(L, H - 3, `−${Math.round(page.trendMs / 60000)} min`, 'start');
   text(W - R, H - 3, 'now', 'end');
   for (const [k, cls] of [[1, 'vm'], [2, 'pmax'], [3, 'pmin']]) {
@@ -167,7 +179,7 @@ function renderGroups(view) {
     e.card.classList.toggle('alarmed', alarms.length > 0);
     const shown = (!filter || e.search.includes(filter)) && (!onlyAttention || attention);
     e.card.hidden = !shown;
-    if (shown) drawTrend(e.svg, e.trend, g.id);
+    if (shown) drawTrend(e.svg, e.trend, g);
     const zc = zoneCounts.get(g.zone) ?? { shown: 0, total: 0, alarmed: 0, flagged: 0 };
     zc.total++; if (shown) zc.shown++; if (alarms.length > 0) zc.alarmed++; if (g.flags.length > 0) zc.flagged++;
     zoneCounts.set(g.zone, zc);

@@ -60,6 +60,28 @@ export function median(values: readonly number[]): number {
   return s.length % 2 === 1 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
 
+/** Scratch for the median and MAD of a window (grown once to the window size): no allocation per reading. */
+let scratch = new Float64Array(32);
+
+/** Median of values[0..n) sorted in place in `scratch`. */
+function sortedMedian(n: number): number {
+  const s = scratch.subarray(0, n).sort();
+  const m = n >> 1;
+  return n % 2 === 1 ? s[m] : (s[m - 1] + s[m]) / 2;
+}
+
+/** Median and MAD of a window. Returns the median; the MAD in `madOut[0]`. */
+function medianAndMad(window: readonly number[], madOut: Float64Array): number {
+  const n = window.length;
+  if (scratch.length < n) scratch = new Float64Array(n);
+  for (let i = 0; i < n; i++) scratch[i] = window[i];
+  const med = sortedMedian(n);
+  for (let i = 0; i < n; i++) scratch[i] = Math.abs(window[i] - med);
+  madOut[0] = sortedMedian(n);
+  return med;
+}
+const madScratch = new Float64Array(1);
+
 function push(state: HampelState, x: number, windowSamples: number): void {
   state.window.push(x);
   if (state.window.length > windowSamples) state.window.splice(0, state.window.length - windowSamples);
@@ -104,8 +126,8 @@ export function hampelStep(
     push(state, x, windowSamples);
     return { spike: false, ended, held: false, median: null, limit: null, deviation: null };
   }
-  const med = median(state.window);
-  const mad = median(state.window.map((v) => Math.abs(v - med)));
+  const med = medianAndMad(state.window, madScratch);
+  const mad = madScratch[0];
   const limit = Math.max(kMads * MAD_TO_SIGMA * mad, minDeviation);
   const before = state.window[state.window.length - 1];
   const held = Math.abs(x - med) > limit && Math.abs(x - before) > limit;

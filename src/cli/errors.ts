@@ -1,3 +1,4 @@
+import { BrokerLoginRefusedError } from '../adapters/mqtt/login-refused.js';
 import { ConfigError } from '../config/compile.js';
 import { MissingReadingError, UnknownGroupError } from '../results/calculate.js';
 
@@ -5,9 +6,10 @@ import { MissingReadingError, UnknownGroupError } from '../results/calculate.js'
  * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
  * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent), 5 an
  * acknowledgement refused by the processor or left without a verdict (`ack`), 6 the replayed capture
- * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same).
+ * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same), 7 the
+ * broker refused the login (user name, password, authorisation; at start-up or on a later reconnect).
  */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6 } as const;
+export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6, brokerLogin: 7 } as const;
 
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {
@@ -46,6 +48,7 @@ export function exitCodeFor(err: unknown): number {
   if (err instanceof SilentProcessorError) return EXIT.silent;
   if (err instanceof AckRefusedError) return EXIT.refused;
   if (err instanceof CaptureGapsError) return EXIT.gaps;
+  if (err instanceof BrokerLoginRefusedError) return EXIT.brokerLogin;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError) return EXIT.usage;
   return EXIT.runtime;
 }

@@ -3,6 +3,7 @@ import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import { Observable, Subject } from 'rxjs';
 import type { RawMessage } from '../../model/raw-message.js';
 import { OrderedAckQueue } from './ack-queue.js';
+import { BrokerLoginRefusedError, loginRefusal } from './login-refused.js';
 import { mqttConnectionOptionsSchema, nextReconnectDelay_ms, type MqttConnectionOptions, type MqttConnectionOptionsInput } from './options.js';
 
 /** A received message and its acknowledgement: call `ack()` once the message is safely handled. */
@@ -43,6 +44,11 @@ export interface MqttConnection {
   readonly protocolVersion: 4 | 5;
   readonly publish: Publish;
   stats(): MqttConnectionStats;
+  /**
+   * Settles when the broker refuses the login on a later reconnect (a changed password, a revoked
+   * user): the client then stops reconnecting. Never settles otherwise.
+   */
+  readonly loginRefused: Promise<BrokerLoginRefusedError>;
   /** Graceful DISCONNECT. Unacked messages stay in the broker's session for the next start. */
   close(): Promise<void>;
   /** Drop the connection without DISCONNECT, as a crash would (the session and unacked messages stay). */
@@ -108,7 +114,8 @@ function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions
     reconnectPeriod: o.reconnectInitial_ms,
     connectTimeout: o.connectTimeout_ms,
     resubscribe: true,
-    // A refusal after the first connection (broker restarting, auth backend down) is retried with backoff.
+    // A refusal after the first connection (broker restarting, server busy) is retried with backoff;
+    // a refused login is not (see the error handler).
     reconnectOnConnackError: true,
     username: o.username,
     password: o.password,
@@ -216,20 +223,26 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
   });
   client.on('offline', () => log('mqtt_offline'));
 
+  // Set once a refused login ended the client: publishing or ending it again would wait for ever.
+  let endedBy: Error | null = null;
   const publish: Publish = async (topic, payload, opts = {}) => {
+    if (endedBy !== null) throw endedBy;
     await client.publishAsync(topic, typeof payload === 'string' ? payload : Buffer.from(payload), {
       qos: opts.qos ?? 1,
       retain: opts.retain ?? false,
     });
   };
 
+  let onLoginRefused: (e: BrokerLoginRefusedError) => void = () => {};
+  const loginRefused = new Promise<BrokerLoginRefusedError>((resolve) => { onLoginRefused = resolve; });
   const connection: MqttConnection = {
     messages$,
+    loginRefused,
     protocolVersion: version,
     publish,
     stats: () => ({ ...stats, heldAcks: acks.waiting, reconnectDelay_ms: delay_ms }),
     close: async () => {
-      await client.endAsync();
+      if (endedBy === null) await client.endAsync();
       subject.complete();
     },
     abandon: () => {
@@ -243,10 +256,21 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
     client.on('error', (error) => {
       log('mqtt_error', { message: error.message, code: (error as { code?: unknown }).code });
       const code = (error as { code?: unknown }).code;
+      const refusedLogin = typeof code === 'number' ? loginRefusal(version, code) : null;
+      const named = refusedLogin === null ? null : new BrokerLoginRefusedError(o.url, o.username, version, code as number, refusedLogin);
+      if (typeof code === 'number' && (!settled || named !== null)) {
+        // mqtt.js reconnects after this handler unless told here; end() alone does not stop it.
+        client.options.reconnectOnConnackError = false;
+        client.options.reconnectPeriod = 0;
+      }
       if (!settled && typeof code === 'number') {
-        settled = true; // a CONNACK refusal: mqtt.js stops reconnecting by itself
+        settled = true; // a CONNACK refusal on the first connection: no retry
         client.end(true);
-        reject(error);
+        reject(named ?? error);
+      } else if (named !== null) {
+        endedBy = named;
+        client.end(true); // credentials do not come right by retrying
+        onLoginRefused(named);
       }
     });
     client.on('connect', (connack) => {

@@ -25,13 +25,15 @@ export function runCommand(): Command {
       });
       log.info({ event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion });
       const timer = o.statusEvery > 0 ? setInterval(() => log.info({ event: 'status', ...live.status() }), o.statusEvery * 1000) : null;
-      await new Promise<void>((done) => {
-        const stop = () => { done(); };
-        process.once('SIGINT', stop);
-        process.once('SIGTERM', stop);
+      // Until a signal, or a login the broker refuses on a reconnect (a configuration error: retrying cannot cure it).
+      const refused = await new Promise<Error | null>((done) => {
+        process.once('SIGINT', () => done(null));
+        process.once('SIGTERM', () => done(null));
+        void live.connection.loginRefused.then(done);
       });
       if (timer) clearInterval(timer);
       await live.stop();
       log.info({ event: 'stopped', ...live.status() });
+      if (refused) throw refused;
     });
 }

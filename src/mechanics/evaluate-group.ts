@@ -138,15 +138,15 @@ export function evaluateGroup(g: GroupModel, raw: Float64Array, tempC: number, c
   }
   const x = applyPseudoInverse(p, mech, m, g.n, out.work.x);
   // Without redundancy the fit is exact: skip the residual (NaN says "not applicable").
-  const used = m - countBits(missing);
-  if (used > g.n) {
+  out.residualRmsMicro = out.fitStdErrorMicro = Number.NaN;
+  if (m > g.n) {
     const sum = residualSumOfSquares(g.reduction.obs, mech, x, m, g.n, missing, out.elementResidualMicro);
-    out.residualRmsMicro = Math.sqrt(sum / used);
-    // The standard error estimates one element's noise whatever the redundancy: the limit compares it.
-    out.fitStdErrorMicro = Math.sqrt(sum / (used - g.n));
-  } else {
-    out.residualRmsMicro = out.fitStdErrorMicro = Number.NaN;
-    out.elementResidualMicro.fill(0);
+    const used = m - countBits(missing);
+    if (used > g.n) {
+      out.residualRmsMicro = Math.sqrt(sum / used);
+      // The standard error estimates one element's noise whatever the redundancy: the limit compares it.
+      out.fitStdErrorMicro = Math.sqrt(sum / (used - g.n));
+    }
   }
   if (out.fitStdErrorMicro > g.fitStdErrorLimitMicro) flags |= BIT_RESIDUAL_HIGH;
   for (let i = 0; i < m; i++) if ((missing & (1 << i)) !== 0) mech[i] = Number.NaN;

@@ -30,7 +30,7 @@ function groupCard(g) {
     el('p', { class: 'when' }),
   );
   const svg = document.createElementNS(SVG, 'svg');
-  svg.setAttribute('viewBox', '0 0 320 100');
+  svg.setAttribute('viewBox', '0 0 320 110');
   svg.setAttribute('class', 'trend');
   svg.setAttribute('role', 'img');
   card.append(svg);
@@ -57,7 +57,7 @@ function valueRows(g) {
 function drawTrend(svg, points, group) {
   const id = group.id;
   svg.replaceChildren();
-  const W = 320, H = 100, L = 44, R = 6, T = 14, B = 18;
+  const W = 320, H = 110, L = 44, R = 6, T = 22, B = 18;
   const vals = points.flatMap((p) => [p[1], p[2], p[3]]).filter((x) => x !== null);
   const title = document.createElementNS(SVG, 'title');
   title.textContent = `${id}: stress trend, last ${Math.round(page.trendMs / 60000)} min, MPa`;
@@ -92,7 +92,7 @@ function drawTrend(svg, points, group) {
     const ln = document.createElementNS(SVG, 'line');
     ln.setAttribute('x1', L); ln.setAttribute('x2', W - R); ln.setAttribute('y1', y(l.value)); ln.setAttribute('y2', y(l.value)); ln.setAttribute('class', 'limit');
     svg.append(ln);
-    text(L + 3, y(l.value) - 2, `${l.level} limit ${fmt(l.value, 0)}`, 'start', 'axis limit-label');
+    text(W - R - 2, y(l.value) + 9, `${l.level} limit ${fmt(l.value, 0)} MPa`, 'end', 'axis limit-label');
   }
   text(L, H - 3, `−${Math.round(page.trendMs / 60000)} min`, 'start');
   text(W - R, H - 3, 'now', 'end');

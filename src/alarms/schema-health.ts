@@ -27,9 +27,11 @@ export const HealthConfigSchema = z.strictObject({
   /** A channel varying less than tolerance (channel unit, max - min) over window_s. */
   flatline: z.strictObject({ ...common, window_s: Positive.default(3600), tolerance: NonNegative.default(0) }).prefault({}),
   /**
-   * Hampel filter on each channel: a reading further than k_mads x 1.4826 x MAD from the median of
-   * the previous window_samples readings is a spike. min_deviation (channel unit) ignores
-   * deviations too small to matter when the MAD is near zero.
+   * Hampel test on each channel (engine/hampel.ts): a reading further than the limit,
+   * max(k_mads x 1.4826 x MAD, min_deviation), from both the median of the previous window_samples
+   * readings and the reading before it, that comes back within half the limit of the reading before
+   * it within 2 readings, is a spike. min_deviation (channel unit) ignores deviations too small to
+   * matter when the MAD is near zero. The same test flags the results (`reading_spike`).
    */
   spike: z
     .strictObject({

@@ -149,6 +149,16 @@ export async function startMosquitto(opts: {
   };
 }
 
+/**
+ * Starts Mosquitto with a configuration file written by the caller (which must listen on
+ * 127.0.0.1:`port`); stop() stops the process and leaves the caller's files alone.
+ */
+export async function startMosquittoWithConfig(confPath: string, port: number): Promise<MosquittoServer> {
+  const { child, output } = spawnLogged(MOSQUITTO_BIN, ['-c', confPath]);
+  await waitUntil(() => acceptsConnections(port), child, output, 'mosquitto');
+  return { url: `mqtt://${LOOPBACK}:${port}`, port, pid: child.pid!, stop: () => stopChild(child) };
+}
+
 /** One exported series: labels (with `__name__`) and its samples in time order. */
 export interface ExportedSeries {
   metric: Record<string, string>;

@@ -27,3 +27,45 @@ describe('simulator CLI options', () => {
     expect(r.error!.issues.find((i) => i.path[0] === 'faults')!.message).toContain('unknown fault "flood"');
   });
 });
+
+describe('simulator: when heavy vehicles pass and faults happen', () => {
+  it('parses --heavy-at-s and --fault-at, and names what is wrong', () => {
+    const o = CliOptionsSchema.parse({ ...good, heavyAtS: '40, 900', faultAt: 'dropout@240-270,silent@480,clock_drift@1200' });
+    expect(o.heavyAtS).toEqual([40, 900]);
+    expect(o.faultAt).toEqual({ dropout: { start_s: 240, end_s: 270 }, silent: { start_s: 480 }, clock_drift: { start_s: 1200 } });
+    expect(CliOptionsSchema.parse({ ...good, heavyAtS: 'none' }).heavyAtS).toEqual([]);
+    const bad = CliOptionsSchema.safeParse({ ...good, heavyAtS: '40,soon', faultAt: 'flood@10,dropout@50-20' });
+    expect(bad.success).toBe(false);
+    const messages = bad.error!.issues.map((i) => `${String(i.path[0])}: ${i.message}`);
+    expect(messages).toContain('heavyAtS: "soon" is not a number of seconds (0 or more)');
+    expect(messages.some((m) => m.startsWith('faultAt: "flood@10": expected kind@start_s[-end_s]'))).toBe(true);
+    expect(messages).toContain('faultAt: "dropout@50-20": the end must come after the start');
+  });
+
+  it('places the scenario\'s heavy vehicles and faults at the given times, and says so at the start and as they happen', async () => {
+    const { defaultScenario } = await import('../../simulators/default-scenario.js');
+    const { createSimulation } = await import('../../simulators/run.js');
+    const { describeRun, episodeSink, episodesOf } = await import('../../simulators/announce.js');
+    const { loadStructureFile } = await import('../../src/config/load.js');
+    const start = Date.UTC(2026, 0, 1, 10);
+    const scn = defaultScenario({
+      seed: 1, start_ms: start, duration_s: 20, day_s: 600, faults: ['dropout', 'silent', 'debond'], heavy_at_s: [5],
+      fault_times: { dropout: { start_s: 2, end_s: 4 }, silent: { start_s: 8 }, debond: { start_s: 1 } },
+    });
+    expect(scn.heavy_vehicles).toEqual([{ at_s: 5, gross_kN: 1000 }]);
+    expect(scn.faults.map((f) => [f.kind, f.start_s, 'end_s' in f ? f.end_s : null])).toEqual([['debond', 1, null], ['dropout', 2, 4], ['silent', 8, 9.6]]);
+    const sim = createSimulation(await loadStructureFile('config/brannock-mere.yaml'), scn);
+    expect(describeRun(scn, sim.faultLog, 'mqtt://127.0.0.1:1', 1, 'brannock-mere')).toMatch(/in real time .* for 20 s .*heavy vehicle at \+5 s; faults: debond \+1 s, dropout \+2 s\.\.\+4 s, silent \+8 s\.\.\+10 s/);
+    const lines: string[] = [];
+    const sink = episodeSink(scn, episodesOf(scn, sim.faultLog), (l) => lines.push(l));
+    for (const scan of sim.scans()) await sink.send(scan);
+    expect(lines.map((l) => l.replace(/ \(.*$/, '').replace(/: expect.*$/, ''))).toEqual([
+      'simulator +1 s: fault debond starts on lg-pier/ch06',
+      'simulator +2 s: fault dropout starts on lg-span1/ch04',
+      'simulator +4 s: fault dropout on lg-span1/ch04 ends',
+      'simulator +5 s: heavy vehicle',
+      'simulator +8 s: fault silent starts on lg-thermal',
+      'simulator +10 s: fault silent on lg-thermal ends',
+    ]);
+  });
+});

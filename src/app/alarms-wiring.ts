@@ -7,8 +7,8 @@ import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, 
 import { redactUrl } from '../adapters/secret.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
-
 import { openAlarmState, type AlarmStateDeps } from './alarm-state-file.js';
+
 /** An acknowledgement command as decoded at the MQTT boundary (`parseAckPayload`'s result). */
 export type AckEvent = { ok: true; ack: Ack } | { ok: false; refusal: AckRefusal };
 
@@ -28,9 +28,9 @@ export interface AlarmWiringDeps {
   now: () => number;
   /** Engine state from a previous run (`loadSnapshot`), restored at subscription. */
   snapshotJson?: string;
-  /** Snapshot file, rewritten after every batch (absent: not persisted). */
   /** Inputs taken before any other (the operations alarm of a reset state, from `openAlarmFiles`). */
   startInputs?: readonly AlarmInput[];
+  /** Snapshot file, rewritten after every batch (absent: not persisted). */
   snapshotPath?: string;
   /** Where `sw_alarm` points go (not closed by the wiring: it is usually shared). */
   sink?: PointWriter;
@@ -64,6 +64,8 @@ export interface AlarmCounts {
   active: number;
   visible: number;
   errors: { snapshot: number; points: number; log: number; stream: number };
+  /** Per logger: scans whose `seq` went back or repeated, and counter restarts among them. */
+  sequences: Record<string, { backwards: number; repeated: number; restarts: number }>;
 }
 
 export interface AlarmWiring {

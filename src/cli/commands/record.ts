@@ -50,11 +50,17 @@ export function recordCommand(): Command {
         recorded++;
       });
       log.info({ event: 'recording', dir, structure: structure.structureId });
-      await new Promise<void>((done) => { process.once('SIGINT', done); process.once('SIGTERM', done); });
+      // Until a signal, or a login the broker refuses on a reconnect (exit 7, as for `run`).
+      const refused = await new Promise<Error | null>((done) => {
+        process.once('SIGINT', () => done(null));
+        process.once('SIGTERM', () => done(null));
+        void connection.loginRefused.then(done);
+      });
       sub.unsubscribe();
       await capture.close();
       await new Promise((r) => setImmediate(r)); // the last acknowledgements go out before the DISCONNECT
       await connection.close();
       log.info({ event: 'stopped', recorded });
+      if (refused) throw refused;
     });
 }

@@ -57,9 +57,12 @@ describe('live page of npm start, in a browser', () => {
   });
 
   it('shows every group of the deck, grouped by zone, with values that change', async () => {
+    // Cards are painted once near the screen: each is scrolled to, as a person would.
     for (const g of ['web-north-pier', 'web-south-pier', 'flange-north-mid1', 'flange-south-mid1', 'slab-mid1']) {
+      await page.locator(`article.group[data-group="${g}"]`).scrollIntoViewIfNeeded();
       await page.locator(`article.group[data-group="${g}"] .when`).filter({ hasText: 'result of' }).waitFor({ timeout: 20_000 });
     }
+    await page.evaluate(() => window.scrollTo(0, 0));
     expect(await page.locator('details.zone').evaluateAll((zs) => zs.map((z) => (z as HTMLElement).dataset.zone))).toEqual(['pier', 'span-1']);
     const vm = page.locator('article.group[data-group="web-north-pier"] dl.vals');
     expect(await vm.innerText()).toMatch(/von Mises\s+-?\d+\.\d MPa/);
@@ -79,6 +82,11 @@ describe('live page of npm start, in a browser', () => {
     // Instrument health lists every logger, receiving.
     await page.locator('details.logger[data-logger="lg-pier"] summary').filter({ hasText: 'receiving' }).waitFor({ timeout: 10_000 });
     expect(await page.locator('details.logger').count()).toBe(4);
+    // Its channels, once opened: reading, unit, range.
+    await page.click('details.logger[data-logger="lg-span1"] summary');
+    const rows = page.locator('details.logger[data-logger="lg-span1"] table.channels tbody tr');
+    await page.waitForFunction(() => document.querySelectorAll('details.logger[data-logger="lg-span1"] table.channels tbody tr').length === 4, null, { timeout: 5_000 });
+    expect(await rows.first().innerText()).toMatch(/ch01\s+flange-north-mid1\s+-?\d+\.\d{4} microstrain/);
     expect(await page.locator('#processor-figures').innerText()).toMatch(/messages in \(last 10 s\)\s+\d+\.\d \/s/);
   }, 60_000);
 
@@ -125,7 +133,9 @@ describe('live page of npm start, in a browser', () => {
   it('fits a phone-sized screen', async () => {
     const phone = await browser.newPage({ viewport: { width: 390, height: 844 } });
     await phone.goto(url);
+    await phone.locator('article.group[data-group="slab-mid1"]').scrollIntoViewIfNeeded();
     await phone.locator('article.group[data-group="slab-mid1"] .when').filter({ hasText: 'result of' }).waitFor({ timeout: 10_000 });
+    await phone.evaluate(() => window.scrollTo(0, 0));
     const overflow = await phone.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
     expect(overflow).toBeLessThanOrEqual(0);
     await phone.screenshot({ path: join(ARTIFACTS, 'live-page-phone.png') });

@@ -15,7 +15,7 @@ const fmt = (v, digits = 1) => (v === null || v === undefined || !Number.isFinit
 const utc = (ms) => (ms === null || ms === undefined ? '—' : new Date(ms).toISOString().slice(11, 19));
 const age = (s) => (s === null || s === undefined ? '—' : s < 10 ? `${s.toFixed(1)} s` : s < 120 ? `${Math.round(s)} s` : `${Math.round(s / 60)} min`);
 
-const page = { view: null, trendMs: 300_000, groups: new Map(), lastEventAt: 0, openAlarmId: null };
+const page = { view: null, trendMs: 300_000, groups: new Map(), onScreen: new Set(), lastEventAt: 0, openAlarmId: null };
 
 // ---- groups -------------------------------------------------------------------------------
 
@@ -122,6 +122,8 @@ function mergeTrend(entry, points) {
 
 function buildGroups(view) {
   const zones = $('zones');
+  screenWatch.disconnect();
+  page.onScreen.clear();
   zones.replaceChildren();
   page.groups.clear();
   const byZone = new Map();
@@ -138,6 +140,7 @@ function buildGroups(view) {
       entry.zoneBox = box;
       page.groups.set(g.id, entry);
       list.append(entry.card);
+      screenWatch.observe(entry.card);
     }
     zones.append(box);
   }
@@ -155,6 +158,44 @@ function groupAlarms(view) {
   return m;
 }
 
+/** Values, flags, alarms, age and trend of one card, from its latest data; the trend only when it changed. */
+function paintGroup(e) {
+  if (e.latest === undefined) return;
+  const { g, alarms, clockMs } = e.latest;
+  const rows = valueRows(g);
+  const rowsKey = rows.map((r) => r.join('|')).join(';');
+  if (e.rowsKey !== rowsKey) {
+    e.values.replaceChildren(...rows.flatMap(([k, v, u]) => [el('dt', {}, k), el('dd', {}, el('span', { class: 'num' }, v), u ? ` ${u}` : '')]));
+    e.rowsKey = rowsKey;
+  }
+  const flags = e.card.querySelector('.flags');
+  const flagsKey = g.timeMs === null ? 'none' : g.flags.join(',');
+  if (e.flagsKey !== flagsKey) {
+    if (g.timeMs === null) flags.replaceChildren(el('span', { class: 'flag none' }, '… no result yet'));
+    else if (g.flags.length === 0) flags.replaceChildren(el('span', { class: 'flag good' }, '✓ quality: good'));
+    else flags.replaceChildren(...g.flags.map((f) => el('span', { class: 'flag bad' }, `⚑ ${f.replaceAll('_', ' ')}`)));
+    e.flagsKey = flagsKey;
+  }
+  e.card.querySelector('.alarm-note').textContent = alarms.length === 0 ? '' : `${LEVEL_MARKS[Math.min(alarms[0].levelIndex, 3)]} ${alarms.length} open alarm${alarms.length > 1 ? 's' : ''}: ${alarms.map((a) => `${a.level} ${a.ruleId}`).join(', ')}`;
+  const ageS = g.timeMs === null || clockMs === null ? null : Math.max(0, (clockMs - g.timeMs) / 1000);
+  e.card.querySelector('.when').textContent = g.timeMs === null ? 'no result received' : `result of ${utc(g.timeMs)} UTC (${age(ageS)} ago)`;
+  const last = e.trend.length === 0 ? null : e.trend[e.trend.length - 1];
+  const key = `${e.trend.length}:${last === null ? '' : last.join(',')}:${e.trend.length ? e.trend[0][0] : ''}`;
+  if (e.drawn !== key) { drawTrend(e.svg, e.trend, g); e.drawn = key; }
+}
+
+/** Cards near the screen, kept by an IntersectionObserver; a card coming into view is painted at once. */
+const screenWatch = new IntersectionObserver((entries) => {
+  for (const en of entries) {
+    const id = en.target.dataset.group;
+    if (en.isIntersecting) {
+      page.onScreen.add(id);
+      const e = page.groups.get(id);
+      if (e) paintGroup(e);
+    } else page.onScreen.delete(id);
+  }
+}, { rootMargin: '400px 0px' });
+
 function renderGroups(view) {
   const alarmsByGroup = groupAlarms(view);
   const filter = $('filter').value.trim().toLowerCase();
@@ -164,22 +205,15 @@ function renderGroups(view) {
     const e = page.groups.get(g.id);
     if (e === undefined) continue;
     mergeTrend(e, g.trend);
-    e.values.replaceChildren(...valueRows(g).flatMap(([k, v, u]) => [el('dt', {}, k), el('dd', {}, el('span', { class: 'num' }, v), u ? ` ${u}` : '')]));
-    const flags = e.card.querySelector('.flags');
-    if (g.timeMs === null) flags.replaceChildren(el('span', { class: 'flag none' }, '… no result yet'));
-    else if (g.flags.length === 0) flags.replaceChildren(el('span', { class: 'flag good' }, '✓ quality: good'));
-    else flags.replaceChildren(...g.flags.map((f) => el('span', { class: 'flag bad' }, `⚑ ${f.replaceAll('_', ' ')}`)));
     const alarms = alarmsByGroup.get(g.id) ?? [];
-    const note = e.card.querySelector('.alarm-note');
-    note.textContent = alarms.length === 0 ? '' : `${LEVEL_MARKS[Math.min(alarms[0].levelIndex, 3)]} ${alarms.length} open alarm${alarms.length > 1 ? 's' : ''}: ${alarms.map((a) => `${a.level} ${a.ruleId}`).join(', ')}`;
-    const ageS = g.timeMs === null || view.clockMs === null ? null : Math.max(0, (view.clockMs - g.timeMs) / 1000);
-    e.card.querySelector('.when').textContent = g.timeMs === null ? 'no result received' : `result of ${utc(g.timeMs)} UTC (${age(ageS)} ago)`;
+    e.latest = { g, alarms, clockMs: view.clockMs };
     const attention = alarms.length > 0 || g.flags.length > 0 || g.timeMs === null;
     e.card.classList.toggle('attention', attention);
     e.card.classList.toggle('alarmed', alarms.length > 0);
     const shown = (!filter || e.search.includes(filter)) && (!onlyAttention || attention);
     e.card.hidden = !shown;
-    if (shown) drawTrend(e.svg, e.trend, g);
+    // Only cards on the screen are painted: hundreds of groups stay cheap to update each second.
+    if (shown && page.onScreen.has(g.id)) paintGroup(e);
     const zc = zoneCounts.get(g.zone) ?? { shown: 0, total: 0, alarmed: 0, flagged: 0 };
     zc.total++; if (shown) zc.shown++; if (alarms.length > 0) zc.alarmed++; if (g.flags.length > 0) zc.flagged++;
     zoneCounts.set(g.zone, zc);
@@ -251,7 +285,7 @@ function renderLoggers(view) {
     const chAlarms = healthByLogger.get(`${l.id}#any`) ?? 0;
     const summary = el('summary', {}, el('strong', {}, l.id), ` — ${stateLabel}; ${l.frames} scans, ${l.seqGaps} missing by sequence number; `,
       own.length + chAlarms === 0 ? 'no open health alarm' : `${own.length + chAlarms} open health alarm${own.length + chAlarms > 1 ? 's' : ''}${own.length ? ` (${own.join(', ')})` : ''}`);
-    const table = el('table', { class: 'channels' },
+    const table = () => el('table', { class: 'channels' },
       el('thead', {}, el('tr', {}, ...['Channel', 'Group', 'Last reading', 'Age', 'Null readings', 'Range', 'Open alarms'].map((h) => el('th', { scope: 'col' }, h)))),
       el('tbody', {}, ...l.channels.map((c) => {
         const alarms = healthByLogger.get(`${l.id}/${c.id}`) ?? [];
@@ -262,8 +296,10 @@ function renderLoggers(view) {
           el('td', {}, c.outOfRange ? '✕ OUT OF RANGE' : c.ageS === null ? '—' : '✓ in range'),
           el('td', {}, alarms.length ? `⚑ ${alarms.join(', ')}` : '—'));
       })));
-    const d = el('details', { class: `logger ${l.state}`, 'data-logger': l.id }, summary, el('p', { class: 'loc' }, `zone ${l.zone}: ${l.location}; expected every ${l.expectedIntervalS} s`), el('div', { class: 'table-wrap' }, table));
-    if (open.has(l.id)) d.open = true;
+    // The channel table is built only for an open logger (a structure may have hundreds of channels).
+    const d = el('details', { class: `logger ${l.state}`, 'data-logger': l.id }, summary, el('p', { class: 'loc' }, `zone ${l.zone}: ${l.location}; expected every ${l.expectedIntervalS} s`));
+    if (open.has(l.id)) { d.open = true; d.append(el('div', { class: 'table-wrap' }, table())); }
+    d.addEventListener('toggle', () => { if (d.open && d.querySelector('table') === null) d.append(el('div', { class: 'table-wrap' }, table())); });
     return d;
   }));
 }

@@ -166,7 +166,7 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
     }
     if (packet.cmd === 'pingreq') pingOutstanding = true;
     sendPacket(packet, cb, ...rest);
-    if (awaitingBroker()) resume(); // its answer lies behind the messages on the wire
+    if (deferred !== null && awaitingBroker()) resume(); // its answer lies behind the messages on the wire
   };
   client.on('packetreceive', (packet) => {
     if (packet.cmd === 'pingresp') pingOutstanding = false;

@@ -68,3 +68,19 @@ describe('frameLineEncoder: the database layout of a processed frame', () => {
     expect(encode(processed(frame(4, { ch0: 1, ch1: 2, ch2: 3 }))).text).not.toBe(first);
   });
 });
+
+describe('frameLineEncoder: names cannot inject line protocol', () => {
+  it('channel ids with spaces, commas, equals signs, quotes and backslashes stay one field each, on their own line', () => {
+    const channels = ['ch 0', 'ch,1 seq=9', 'ch=2 "x"\\'];
+    const doc = planeRosetteDoc([0, 45, 90]);
+    const gauges = (doc.gauges as Array<{ channel: { channel: string } }>).map((g, i) => ({ ...g, channel: { ...g.channel, channel: channels[i] } }));
+    const s = compileOrThrow({ ...doc, gauges, structure: { id: 'deck-a', name: 'x', location: 'y' } });
+    const f: LoggerFrame = { ...frame(1, {}), values: new Map([[channels[0], 1.5], [channels[1], 2.5], [channels[2], 3.5]]) };
+    const block = frameLineEncoder()(new FrameProcessor<null>(s).onFrame(f, null, f.arrivalMs)[0]);
+    expect(block.text.trimEnd().split('\n')).toHaveLength(2);
+    const [, raw] = decodeLines(block.text);
+    // The reference escaping (line protocol "Special characters"): each name comes back whole, no extra field or tag.
+    expect(raw.tags).toEqual({ structure: 'deck-a', logger: 'lg' });
+    expect(raw.fields).toEqual({ 'ch 0': 1.5, 'ch,1 seq=9': 2.5, 'ch=2 "x"\\': 3.5, missing_channels: 0, arrival_lag_ms: 25, seq: 1 });
+  });
+});

@@ -25,6 +25,7 @@ describe('README first command', () => {
     const started = Date.now();
     demo = startDemo(clone, [], { STRAINWARD_DEMO_MQTT_PORT: '0', STRAINWARD_DEMO_PAGE_PORT: '0' });
     const page = await demo.waitFor(/live page\s+(http:\/\/127\.0\.0\.1:\d+\/)/, 30_000);
+    await demo.waitFor(/Ctrl-C stops everything/, 5_000); // the last line of the start-up block
     expect(demo.output()).toMatch(/results\s+var\/lp\/ \(line protocol\)/);
     expect(demo.output()).toMatch(/alarm log\s+var\/alarms\.ndjson/);
     expect(demo.output()).toContain('does not replace qualified engineering judgement');

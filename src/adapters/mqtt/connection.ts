@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs';
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import { Observable, Subject } from 'rxjs';
 import type { RawMessage } from '../../model/raw-message.js';
-import { OrderedAckQueue } from './ack-queue.js';
+import { holdPubacks, type IntakeWindowStats } from './intake-window.js';
 import { BrokerLoginRefusedError, loginRefusal } from './login-refused.js';
 import { mqttConnectionOptionsSchema, nextReconnectDelay_ms, type MqttConnectionOptions, type MqttConnectionOptionsInput } from './options.js';
 
@@ -21,20 +21,13 @@ export interface PublishOptions {
 /** Publish a payload; resolves when the broker has it (PUBACK for QoS 1) or, for QoS 0, when written. */
 export type Publish = (topic: string, payload: string | Uint8Array, options?: Partial<PublishOptions>) => Promise<void>;
 
-export interface MqttConnectionStats {
+export interface MqttConnectionStats extends IntakeWindowStats {
   connects: number;
   reconnectAttempts: number;
   /** Messages received whose PUBACK is still held. */
   heldAcks: number;
-  /** Most PUBACKs held at once since start. */
-  peakHeldAcks: number;
   /** Current reconnect delay, ms. */
   reconnectDelay_ms: number;
-  /** Messages that arrived with maxHeldAcks already held: the broker ignored the window (warned once per connection). */
-  overWindow: number;
-  /** Times intake stopped at maxHeldAcks (nothing awaited from the broker), and started again. */
-  pauses: number;
-  resumes: number;
 }
 
 export interface MqttConnection {
@@ -66,8 +59,6 @@ export interface MqttDeps {
 
 /** Broker refusals that mean "I do not speak MQTT 5": 1 (3.1.1 CONNACK return code), 0x84 (MQTT 5 reason code). */
 const UNSUPPORTED_PROTOCOL = new Set([1, 0x84]);
-/** Marks the PUBACKs the ack queue releases, as opposed to the ones mqtt.js sends by itself. */
-const RELEASED = Symbol('strainward.released-puback');
 
 /**
  * Connect to the broker: MQTT 5 first, 3.1.1 if the broker refuses 5 (and fallback is allowed).
@@ -126,73 +117,10 @@ function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions
 function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Promise<MqttConnection> {
   const log = deps.log ?? (() => {});
   const client = mqtt.connect(o.url, clientOptions(o, version));
-  const warn = deps.warn ?? log;
-  const stats = { connects: 0, reconnectAttempts: 0, peakHeldAcks: 0, overWindow: 0, pauses: 0, resumes: 0 };
+  const stats = { connects: 0, reconnectAttempts: 0 };
   let delay_ms = o.reconnectInitial_ms;
 
-  // PUBACKs are held by swapping mqtt.js's packet writer. Its own hook, customHandleAcks, cannot
-  // do this: mqtt.js ignores it below MQTT 5, and while its callback is pending the client
-  // handles no further packet (no later message, no PINGRESP), so one slow ack stalls everything.
-  const internals = client as unknown as {
-    _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void;
-    outgoing: Record<number, unknown>;
-  };
-  const sendPacket = internals._sendPacket.bind(client);
-  // Intake back-pressure. The broker is asked to keep to a window of maxHeldAcks (MQTT 5 Receive
-  // Maximum; with 3.1.1 its own in-flight limit), but Mosquitto 2.0.11 keeps to it only until the
-  // first PUBACK. So at maxHeldAcks held, mqtt.js is not told that this PUBACK went out until the
-  // count is back to half, and reads no further packet meanwhile — unless an answer of the broker
-  // is awaited (SUBACK, PUBACK of our own publish, PINGRESP): that lies behind the messages on the
-  // wire, so then the client reads on, and the messages beyond the window are taken and counted.
-  let deferred: (() => void) | null = null;
-  let pingOutstanding = false;
-  const awaitingBroker = () => pingOutstanding || Object.keys(internals.outgoing).length > 0;
-  const resume = () => {
-    if (deferred === null) return;
-    const cb = deferred;
-    deferred = null;
-    stats.resumes++;
-    cb();
-  };
-  internals._sendPacket = (packet, cb, ...rest) => {
-    if (packet.cmd === 'puback' && !packet[RELEASED]) {
-      if (cb && acks.waiting >= o.maxHeldAcks && !awaitingBroker()) {
-        deferred = cb;
-        stats.pauses++;
-        return;
-      }
-      cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
-      return;
-    }
-    if (packet.cmd === 'pingreq') pingOutstanding = true;
-    sendPacket(packet, cb, ...rest);
-    if (deferred !== null && awaitingBroker()) resume(); // its answer lies behind the messages on the wire
-  };
-  client.on('packetreceive', (packet) => {
-    if (packet.cmd === 'pingresp') pingOutstanding = false;
-  });
-  const relieve = () => {
-    if (acks.waiting <= o.maxHeldAcks / 2) resume();
-  };
-  const acks = new OrderedAckQueue((messageId) => {
-    if (client.connected) sendPacket({ cmd: 'puback', messageId, reasonCode: 0, [RELEASED]: true });
-  });
-  // Messages beyond the window are never refused (that would stop the control packets behind
-  // them too): they are counted, and reported once per connection.
-  let warnedThisConnection = false;
-  const countHeld = () => {
-    const held = acks.waiting;
-    if (held > stats.peakHeldAcks) stats.peakHeldAcks = held;
-    if (held <= o.maxHeldAcks) return;
-    stats.overWindow++;
-    if (warnedThisConnection) return;
-    warnedThisConnection = true;
-    warn('mqtt_window_exceeded', {
-      heldAcks: held, maxHeldAcks: o.maxHeldAcks, protocolVersion: version,
-      message: `the broker sent more than mqtt.max_held_acks (${o.maxHeldAcks}) messages without their acknowledgement; `
-        + 'set its in-flight limit (Mosquitto: max_inflight_messages) to at most that value',
-    });
-  };
+  const intake = holdPubacks(client, o.maxHeldAcks, version, deps.warn ?? log);
 
   const subject = new Subject<InboundMessage>();
   let early: InboundMessage[] | null = [];
@@ -208,13 +136,11 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
 
   client.on('message', (topic, payload, packet) => {
     const raw: RawMessage = { topic, payload: new Uint8Array(payload), arrivalMs: deps.now() };
-    const ticket = packet.qos === 1 && packet.messageId !== undefined ? acks.enqueue(packet.messageId) : { ack() {} };
-    countHeld();
-    const message: InboundMessage = { raw, ack: () => { ticket.ack(); relieve(); } };
+    const ticket = packet.qos === 1 && packet.messageId !== undefined ? intake.take(packet.messageId) : { ack() {} };
+    const message: InboundMessage = { raw, ack: ticket.ack };
     if (early) early.push(message);
     else subject.next(message);
   });
-  client.on('close', () => { acks.reset(); deferred = null; pingOutstanding = false; warnedThisConnection = false; });
   client.on('reconnect', () => {
     stats.reconnectAttempts++;
     // mqtt.js reads reconnectPeriod each time it schedules, so growing it here is the backoff.
@@ -240,7 +166,7 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
     loginRefused,
     protocolVersion: version,
     publish,
-    stats: () => ({ ...stats, heldAcks: acks.waiting, reconnectDelay_ms: delay_ms }),
+    stats: () => ({ ...stats, ...intake.stats, heldAcks: intake.held, reconnectDelay_ms: delay_ms }),
     close: async () => {
       if (endedBy === null) await client.endAsync();
       subject.complete();

@@ -1,0 +1,118 @@
+import type { MqttClient } from 'mqtt';
+import { OrderedAckQueue, type AckTicket } from './ack-queue.js';
+
+/** Counters of the intake window. Mutated in place. */
+export interface IntakeWindowStats {
+  /** Most PUBACKs held at once since start. */
+  peakHeldAcks: number;
+  /** Messages that arrived with maxHeldAcks already held: the broker ignored the window (warned once per connection). */
+  overWindow: number;
+  /** Times intake stopped at maxHeldAcks (nothing awaited from the broker), and started again. */
+  pauses: number;
+  resumes: number;
+}
+
+export interface IntakeWindow {
+  readonly stats: IntakeWindowStats;
+  /** PUBACKs held now. */
+  readonly held: number;
+  /** An arrived QoS 1 message (arrival order); its ticket releases the PUBACK in order. */
+  take(messageId: number): AckTicket;
+}
+
+/** Marks the PUBACKs the ack queue releases, as opposed to the ones mqtt.js sends by itself. */
+const RELEASED = Symbol('strainward.released-puback');
+
+/**
+ * Holds the client's PUBACKs until each message is acknowledged, and applies intake back-pressure.
+ * PUBACKs are held by swapping mqtt.js's packet writer. Its own hook, customHandleAcks, cannot do
+ * this: mqtt.js ignores it below MQTT 5, and while its callback is pending the client handles no
+ * further packet (no later message, no PINGRESP), so one slow ack stalls everything.
+ *
+ * The broker is asked to keep to a window of maxHeldAcks (MQTT 5 Receive Maximum; with 3.1.1 its
+ * own in-flight limit), but Mosquitto 2.0.11 keeps to it only until the first PUBACK. So at
+ * maxHeldAcks held, mqtt.js is not told that its PUBACK went out until the count is back to half,
+ * and reads no further packet meanwhile — unless an answer of the broker is awaited (SUBACK,
+ * PUBACK of our own publish, PINGRESP): it lies behind the messages on the wire (and a dead
+ * letter's message waits for its copy's PUBACK), so then the client reads on, and the messages
+ * beyond the window are taken, counted and warned about once per connection. Mutates `client`.
+ */
+export function holdPubacks(
+  client: MqttClient, maxHeldAcks: number, protocolVersion: 4 | 5,
+  warn: (event: string, detail?: Record<string, unknown>) => void,
+): IntakeWindow {
+  const internals = client as unknown as {
+    _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void;
+    outgoing: Record<number, unknown>;
+  };
+  const sendPacket = internals._sendPacket.bind(client);
+  const stats: IntakeWindowStats = { peakHeldAcks: 0, overWindow: 0, pauses: 0, resumes: 0 };
+  const acks = new OrderedAckQueue((messageId) => {
+    if (client.connected) sendPacket({ cmd: 'puback', messageId, reasonCode: 0, [RELEASED]: true });
+  });
+  let deferred: (() => void) | null = null;
+  let pingOutstanding = false;
+  let warnedThisConnection = false;
+
+  const awaitingBroker = () => pingOutstanding || Object.keys(internals.outgoing).length > 0;
+  const resume = () => {
+    if (deferred === null) return;
+    const cb = deferred;
+    deferred = null;
+    stats.resumes++;
+    cb();
+  };
+  internals._sendPacket = (packet, cb, ...rest) => {
+    if (packet.cmd === 'puback' && !packet[RELEASED]) {
+      if (cb && acks.waiting >= maxHeldAcks && !awaitingBroker()) {
+        deferred = cb;
+        stats.pauses++;
+        return;
+      }
+      cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
+      return;
+    }
+    if (packet.cmd === 'pingreq') pingOutstanding = true;
+    sendPacket(packet, cb, ...rest);
+    if (deferred !== null && awaitingBroker()) resume(); // its answer lies behind the messages on the wire
+  };
+  client.on('packetreceive', (packet) => {
+    if (packet.cmd === 'pingresp') pingOutstanding = false;
+  });
+  // A lost connection: the broker redelivers what was held; late acks of it must not reach the next one.
+  client.on('close', () => {
+    acks.reset();
+    deferred = null;
+    pingOutstanding = false;
+    warnedThisConnection = false;
+  });
+
+  const countHeld = () => {
+    const held = acks.waiting;
+    if (held > stats.peakHeldAcks) stats.peakHeldAcks = held;
+    if (held <= maxHeldAcks) return;
+    stats.overWindow++;
+    if (warnedThisConnection) return;
+    warnedThisConnection = true;
+    warn('mqtt_window_exceeded', {
+      heldAcks: held, maxHeldAcks, protocolVersion,
+      message: `the broker sent more than mqtt.max_held_acks (${maxHeldAcks}) messages without their acknowledgement; `
+        + 'set its in-flight limit (Mosquitto: max_inflight_messages) to at most that value',
+    });
+  };
+
+  return {
+    stats,
+    get held() { return acks.waiting; },
+    take(messageId) {
+      const ticket = acks.enqueue(messageId);
+      countHeld();
+      return {
+        ack: () => {
+          ticket.ack();
+          if (acks.waiting <= maxHeldAcks / 2) resume();
+        },
+      };
+    },
+  };
+}

@@ -1,6 +1,6 @@
 import type { AckRefusal, Alarm, AlarmLookups, AlarmTransition } from '../../alarms/types.js';
 import type { LoggerFrame } from '../../model/raw-message.js';
-import type { GroupResult } from '../../model/result.js';
+import type { GroupResult, ResultQuantity } from '../../model/result.js';
 import { TrendRing } from './trend-ring.js';
 
 /** What the page shows of a group besides its numbers (from the structure configuration). */
@@ -197,6 +197,19 @@ export function orderedAlarms(alarms: Iterable<Alarm>): Alarm[] {
     || (a.id < b.id ? -1 : 1));
 }
 
+/** The quantities the page shows (the rest stays in the database): a page update stays small with hundreds of groups. */
+export const PAGE_QUANTITIES = [
+  'principal_1_MPa', 'principal_2_MPa', 'principal_3_MPa', 'principal_angle_deg', 'principal_1_dir_x', 'principal_1_dir_y', 'principal_1_dir_z',
+  'stress_axial_MPa', 'von_mises_MPa', 'ratio_von_mises_to_yield', 'ratio_tension_to_tensile_strength', 'ratio_compression_to_compressive_strength',
+  'temperature_degC',
+] as const satisfies readonly ResultQuantity[];
+
+function shownValues(values: GroupResult['values']): GroupResult['values'] {
+  const out: GroupResult['values'] = {};
+  for (const q of PAGE_QUANTITIES) if (values[q] !== undefined) out[q] = values[q];
+  return out;
+}
+
 /** A logger's receiving state at the pipeline clock: silent after five expected intervals (the demo's no-data setting; the alarm engine decides the alarm). */
 export function loggerStateAt(l: { lastArrivalMs: number | null; expectedIntervalS: number }, clockMs: number): { state: 'waiting' | 'receiving' | 'silent'; ageS: number | null } {
   if (l.lastArrivalMs === null) return { state: 'waiting', ageS: null };
@@ -220,7 +233,7 @@ export function pageView(state: PageState, trendSince: (groupId: string) => numb
     groups: [...state.groups.values()].map((g) => ({
       ...g.info,
       timeMs: g.latest?.timeMs ?? null,
-      values: g.latest?.values ?? {},
+      values: g.latest === null ? {} : shownValues(g.latest.values),
       flags: g.latest?.flags ?? [],
       trend: g.trend.since(trendSince(g.info.id)),
     })),

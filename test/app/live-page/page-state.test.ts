@@ -46,11 +46,12 @@ describe('live page reducer', () => {
     const s = fresh();
     reducePage(s, { type: 'result', result: result('g1', T0 + 100, { von_mises_MPa: 10, principal_1_MPa: 8, principal_2_MPa: -3 }) });
     reducePage(s, { type: 'result', result: result('g1', T0 + 600, { von_mises_MPa: 14, principal_1_MPa: 12, principal_2_MPa: -1 }) });
-    reducePage(s, { type: 'result', result: result('g1', T0 + 1200, { von_mises_MPa: 9, principal_1_MPa: 7, principal_2_MPa: -4 }, ['temperature_stale']) });
+    reducePage(s, { type: 'result', result: result('g1', T0 + 1200, { von_mises_MPa: 9, principal_1_MPa: 7, principal_2_MPa: -4, strain_xx_micro: 30 }, ['temperature_stale']) });
     reducePage(s, { type: 'result', result: result('g2', T0 + 50, { von_mises_MPa: 20, stress_axial_MPa: -20 }) });
     reducePage(s, { type: 'result', result: result('nope', T0, { von_mises_MPa: 1 }) }); // not configured: ignored
     const v = pageView(s, () => Number.NEGATIVE_INFINITY);
     const g1 = v.groups.find((g) => g.id === 'g1')!;
+    // Only what the page shows is sent (strains stay in the database).
     expect(g1.values).toEqual({ von_mises_MPa: 9, principal_1_MPa: 7, principal_2_MPa: -4 });
     expect(g1.flags).toEqual(['temperature_stale']);
     expect(g1.timeMs).toBe(T0 + 1200);

@@ -188,5 +188,6 @@ async function main(): Promise<number> {
 
 main().then((code) => { process.exitCode = code; }, (err: unknown) => {
   process.stderr.write(`npm start: ${err instanceof Error ? err.message : String(err)}\n`);
-  process.exitCode = 1;
+  // A start that failed half-way may leave a broker client retrying: nothing is in flight yet.
+  process.exit(1);
 });

@@ -129,7 +129,9 @@ export async function startLivePageServer(o: LivePageServerOptions): Promise<Liv
     });
   });
   await new Promise<void>((resolveListen, reject) => {
-    server.once('error', reject);
+    server.once('error', (err: NodeJS.ErrnoException) => reject(err.code === 'EADDRINUSE'
+      ? new Error(`live page: port ${o.port} on ${o.host} is taken by another program; choose another live_page.port (0: any free port)`)
+      : err));
     server.listen(o.port, o.host, () => { server.off('error', reject); resolveListen(); });
   });
   const keepAlive = setInterval(() => { for (const s of streams) s.write(': still here\n\n'); }, 15_000);

@@ -11,6 +11,7 @@ import { groupTemperatureAt, groupWaitsForTemperature, type GroupTemperature } f
 import { TemperatureHistory } from './temperature-history.js';
 import { CHANNEL_FLATLINE, CHANNEL_HELD, CHANNEL_SPIKE, ChannelScreen, type FrameScreen } from './channel-screen.js';
 import { newResidualDrift, residualDriftStep, type ResidualDrift } from './residual-drift.js';
+import { TemperatureScreen } from './temperature-screen.js';
 
 const BIT_READING_SPIKE = qualityBit('reading_spike');
 const BIT_READING_SUSPECT = qualityBit('reading_suspect');
@@ -54,6 +55,8 @@ export interface FrameProcessorCounts {
   withheldResults: number;
   heldFrames: number;
   temperatureRejected: number;
+  /** Temperature readings dropped as spikes (temperature-screen.ts). */
+  temperatureSpikes: number;
   forcedReleases: number;
   /** Frames held for the readings after an excursion (spike or real change?). */
   heldForScreen: number;
@@ -73,16 +76,18 @@ export const MAX_HELD_PER_LOGGER = 20_000;
  * `clockMs` is the pipeline clock (latest arrival or tick), never the wall clock.
  */
 export class FrameProcessor<M> {
-  readonly counts: FrameProcessorCounts = { frames: 0, results: 0, withheldResults: 0, heldFrames: 0, temperatureRejected: 0, forcedReleases: 0, heldForScreen: 0, screenTimeouts: 0 };
+  readonly counts: FrameProcessorCounts = { frames: 0, results: 0, withheldResults: 0, heldFrames: 0, temperatureRejected: 0, temperatureSpikes: 0, forcedReleases: 0, heldForScreen: 0, screenTimeouts: 0 };
   private readonly histories = new Map<string, TemperatureHistory>();
   private readonly groups = new Map<string, GroupRuntime>();
   private readonly held = new Map<string, Array<HeldFrame<M>>>();
   private readonly screen: ChannelScreen;
+  private readonly temperatureScreen: TemperatureScreen;
   /** Logger id -> channel id -> sensor (nested, so no key string is built per reading). */
   private readonly sensorsByChannel = new Map<string, Map<string, TemperatureChannel>>();
 
   constructor(private readonly structure: CompiledStructure) {
     this.screen = new ChannelScreen(structure);
+    this.temperatureScreen = new TemperatureScreen(structure.config.alarms?.health);
     for (const t of structure.temperatureSensors.values()) {
       let byChannel = this.sensorsByChannel.get(t.loggerId);
       if (byChannel === undefined) this.sensorsByChannel.set(t.loggerId, (byChannel = new Map()));
@@ -167,7 +172,8 @@ export class FrameProcessor<M> {
         this.counts.temperatureRejected++;
         continue;
       }
-      this.histories.get(sensor.sensorId)!.add(frame.timeMs, c);
+      this.temperatureScreen.add(sensor.sensorId, this.histories.get(sensor.sensorId)!, frame.timeMs, c);
+      this.counts.temperatureSpikes = this.temperatureScreen.dropped;
       accepted[sensor.sensorId] = c;
     }
     return accepted;

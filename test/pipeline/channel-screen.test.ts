@@ -89,4 +89,35 @@ describe('FrameProcessor: instrument health of the readings decided with the res
     const got = run(new FrameProcessor<number>(s), [100, 101, 99, 100, 102, 100, 400, 101]);
     expect(got.map(([t, f]) => `${t}${f}`)).toEqual(['0', '1', '2', '3', '4', '5', '6', '7']);
   });
+
+  it('drops a spiked temperature reading before any result uses it; a reading that stands out waits for the next', () => {
+    // Thermocouple `tc` on logger `th` (10 s scans), joined by interpolation with a 30 s wait; degC spikes beyond 2 degC.
+    const s = compileOrThrow(baseDoc(
+      [{ id: 'one', kind: 'single', material: 'steel', zone: 'z', location: 'bench', elements: [{ gauge: 'g' }], temperature_sensors: ['tc'],
+        temperature: { mode: 'interpolate', max_age_s: 60, max_wait_s: 30 } }],
+      [microGauge('g', 'c1')],
+      {
+        loggers: [{ id: 'lg', expected_interval_s: 1 }, { id: 'th', expected_interval_s: 10 }],
+        temperature_sensors: [{ id: 'tc', kind: 'thermocouple', channel: { logger: 'th', channel: 't' } }],
+        alarms: {
+          levels: ['advisory'], rules: [], acknowledgement: { allowed_users: { structural: ['eng-a'], health: ['tech-b'] } },
+          health: { level: 'advisory', spike: { window_samples: 5, k_mads: 3, min_deviation_by_unit: { degC: 2 } }, flatline: { enabled: false } },
+        },
+      },
+    ));
+    const p = new FrameProcessor<string>(s);
+    const th = (timeMs: number, t: number): LoggerFrame =>
+      ({ structureId: 'test-structure', loggerId: 'th', timeMs, seq: null, values: new Map([['t', t]]), arrivalMs: timeMs });
+    const lg = (timeMs: number): LoggerFrame =>
+      ({ structureId: 'test-structure', loggerId: 'lg', timeMs, seq: null, values: new Map([['c1', 100]]), arrivalMs: timeMs });
+    for (let k = 0; k < 6; k++) p.onFrame(th(k * 10_000, 20 + 0.1 * (k % 2)), `th${k}`, k * 10_000);
+    expect(p.onFrame(lg(55_000), 'a', 55_000)).toEqual([]); // waits for a reading after 55 s
+    expect(p.onFrame(th(60_000, 45), 'th6', 60_000).map((d) => d.message)).toEqual(['th6']); // 25 degC off: held, not used
+    const done = p.onFrame(th(70_000, 20.1), 'th7', 70_000); // back: 45 was a spike, dropped
+    expect(done.map((d) => d.message)).toEqual(['a', 'th7']);
+    // Interpolated between 50 s (20.1) and 70 s (20.1), never through 45: 20.1 degC, no flag.
+    expect(done[0].results[0].values.temperature_degC).toBeCloseTo(20.1, 12);
+    expect(done[0].results[0].flags).toEqual([]);
+    expect(p.counts.temperatureSpikes).toBe(1);
+  });
 });

@@ -61,6 +61,11 @@ export const HealthConfigSchema = z.strictObject({
    * than max_per_hour times in the last hour: reboots, a failing power supply or unit.
    */
   sequence_restart: z.strictObject({ ...common, max_per_hour: z.number().int().min(0).default(2) }).prefault({}),
+  /**
+   * A logger whose messages are refused (dead-lettered: bad JSON, unknown channel, a clock far
+   * ahead...) more than max_per_window times within window_s: its data is not reaching the results.
+   */
+  messages_refused: z.strictObject({ ...common, max_per_window: z.number().int().min(0).default(5), window_s: Positive.default(600) }).prefault({}),
   /** A result flagged residual_high (redundant group does not fit a strain state). */
   residual_high: z.strictObject(common).prefault({}),
   /** A result flagged temperature_stale or temperature_missing. */
@@ -81,6 +86,7 @@ export const HEALTH_CHECKS = [
   'out_of_range',
   'clock_offset',
   'sequence_restart',
+  'messages_refused',
   'residual_high',
   'temperature_stale',
   'result_incomplete',

@@ -169,7 +169,7 @@ export interface AlarmTransition {
 }
 
 /** Why an acknowledgement was refused. */
-export type AckRefusalCode = 'unknown_alarm' | 'user_not_allowed' | 'already_acknowledged' | 'invalid_command';
+export type AckRefusalCode = 'unknown_alarm' | 'user_not_allowed' | 'already_acknowledged' | 'invalid_command' | 'identity_mismatch';
 
 /** A refused acknowledgement, recorded (alarm log) and counted, never silently dropped. */
 export interface AckRefusal {

@@ -3,7 +3,8 @@ import {
   alarmBatches, saveSnapshot, openAlarmLog, createDispatcher, createMqttDelivery, createWebhookDelivery, transitionToPoint,
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
-import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, TransitionKind } from '../alarms/types.js';
+import type { AckVerdict } from '../alarms/ack.js';
+import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, AlarmTransition, TransitionKind } from '../alarms/types.js';
 import { redactUrl } from '../adapters/secret.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -50,6 +51,23 @@ export interface AlarmWiringDeps {
   onBatch?: (batch: AlarmBatch, records: readonly DeliveryRecord[]) => void;
   /** Faults of the processor's own parts (live only: a replay has none), as health-alarm inputs. */
   componentFaults$?: Observable<ComponentFault>;
+  /** The answer to each acknowledgement command (accepted or refused), once it is persisted. */
+  onAckVerdict?: (verdict: AckVerdict) => void;
+}
+
+/** The verdicts a handled batch (or a refusal before the engine) gives to acknowledgement commands. Pure. */
+export function ackVerdicts(transitions: readonly AlarmTransition[], refusals: readonly AckRefusal[]): AckVerdict[] {
+  const at = (ms: number) => new Date(ms).toISOString();
+  const out: AckVerdict[] = [];
+  for (const t of transitions) {
+    if (t.kind !== 'acknowledged' || t.alarm.acknowledgement === null) continue;
+    out.push({
+      alarm_id: t.alarm.id, user: t.alarm.acknowledgement.user, verdict: 'acknowledged', code: null, at: at(t.atMs),
+      reason: t.alarm.state === 'closed' ? 'acknowledged; the alarm had cleared and is now closed' : 'acknowledged; the alarm is still active',
+    });
+  }
+  for (const r of refusals) out.push({ alarm_id: r.alarmId, user: r.user, verdict: 'refused', code: r.code, reason: r.reason, at: at(r.atMs) });
+  return out;
 }
 
 /** Counters of the alarm wiring; `counts()` returns a copy. */
@@ -146,15 +164,23 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
     if (sink !== undefined && batch.transitions.length > 0) await sink.write(batch.transitions.map(transitionToPoint));
     return { deliveries: dispatcher.dispatch(batch) };
   };
+  const verdicts = (transitions: readonly AlarmTransition[], refusals: readonly AckRefusal[]): void => {
+    if (deps.onAckVerdict === undefined) return;
+    for (const v of ackVerdicts(transitions, refusals)) {
+      try { deps.onAckVerdict(v); } catch (err) { report('ack_verdict_failed', err); }
+    }
+  };
   // Observers see batches in order, each once its deliveries are done.
   let reported: Promise<void> = Promise.resolve();
   const handle = async (w: Work): Promise<void> => {
     if (w.kind === 'refusal') {
       c.refusals++;
       await dispatcher.dispatch({ transitions: [], refusals: [w.refusal] });
+      verdicts([], [w.refusal]);
       return;
     }
     const { deliveries } = await persistAndDeliver(w.batch);
+    verdicts(w.batch.transitions, w.batch.refusals);
     c.batches++;
     c.refusals += w.batch.refusals.length;
     for (const t of w.batch.transitions) c.transitions[t.kind]++;
@@ -197,6 +223,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
       return {
         ...c, transitions: { ...c.transitions }, deliveries: { ...c.deliveries }, errors: { ...c.errors },
         visible: visible.length, active: visible.filter((a) => a.state.startsWith('active')).length,
+        sequences: engine?.sequenceCounts() ?? {},
       };
     },
     visibleAlarms: () => engine?.visibleAlarms() ?? [],
@@ -223,5 +250,4 @@ function guardedLog(log: AlarmLog, failed: (err: unknown) => void): AlarmLog {
 function guardedSink(sink: PointWriter, tags: Readonly<Record<string, string>> | undefined, failed: (err: unknown) => void): PointWriter {
   const tagged = (p: Point): Point => (tags === undefined ? p : { ...p, tags: { ...p.tags, ...tags } });
   return { write: (points) => sink.write(points.map(tagged)).catch(failed) };
-        sequences: engine?.sequenceCounts() ?? {},
 }

@@ -14,6 +14,7 @@ import { newEngineState, type EngineState } from './state.js';
 import { parseState, serialiseState } from './state-migration.js';
 import { compileRules, evaluateStructural } from './structural.js';
 import { evaluateSilence } from './watchdog.js';
+import { evaluateRefusals, evaluateRefusalsAt } from './refusal-health.js';
 
 /** What one input produced. */
 export interface StepOutput {
@@ -67,9 +68,10 @@ export function createAlarmEngine(cfg: AlarmsConfig, lookups: AlarmLookups, snap
         return { transitions: [...evaluateFrame(ctx, f), ...evaluateSequence(ctx, f, logger)], refusals: [] };
       }
       case 'refused':
-        return { transitions: evaluateRefused(ctx, input), refusals: [] };
+        return { transitions: [...evaluateRefused(ctx, input), ...evaluateRefusals(ctx, input)], refusals: [] };
       case 'tick': {
         const transitions = evaluateSilence(ctx, input.nowMs);
+        transitions.push(...evaluateRefusalsAt(ctx, input.nowMs));
         transitions.push(...escalate(state, input.nowMs, escalateAfterMs, tiers));
         return { transitions, refusals: [] };
       }

@@ -12,6 +12,7 @@ export const DEFAULT_HEALTH_ACTIONS: Readonly<Record<HealthCheck, string>> = {
   out_of_range: 'Check the gauge for an open circuit, a short or a saturated input.',
   clock_offset: 'Check the logger clock and its time synchronisation: readings are joined by their timestamps.',
   sequence_restart: 'Check the logger power supply and its event log: its scan counter keeps restarting (reboots).',
+  messages_refused: 'Check the logger program and its channel map: its messages are refused (see the dead letters for the reason).',
   residual_high: 'Check the rosette elements: their readings do not fit one strain state.',
   temperature_stale: 'Check the temperature sensor and its logger: stresses use an old or default temperature.',
   result_incomplete: 'Check the missing or out-of-range elements of this group.',

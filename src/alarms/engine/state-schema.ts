@@ -73,6 +73,8 @@ export const EngineStateSchema = z.strictObject({
   loggerLastMs: z.record(z.string(), Num),
   channelLastMs: z.record(z.string(), Num),
   sequences: z.record(z.string(), SequenceSchema),
+  // Added within version 2: a snapshot written before it has none, which is an empty record.
+  refusals: z.record(z.string(), z.array(Num)).default({}),
 });
 
 // The schema and the state types must say the same, field for field: a detector that adds a field

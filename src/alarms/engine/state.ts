@@ -48,11 +48,13 @@ export interface EngineState {
   channelLastMs: Record<string, number>;
   /** Scan counter (`seq`) of each logger that sends one. */
   sequences: Record<string, SequenceState>;
+  /** Arrival times of each logger's refused messages within the messages_refused window, epoch ms. */
+  refusals: Record<string, number[]>;
 }
 
 export function newEngineState(idFloor = 0): EngineState {
   return {
     format: SNAPSHOT_FORMAT, version: SNAPSHOT_VERSION, idFloor, startMs: null,
-    keys: {}, alarms: {}, loggerLastMs: {}, channelLastMs: {}, sequences: {},
+    keys: {}, alarms: {}, loggerLastMs: {}, channelLastMs: {}, sequences: {}, refusals: {},
   };
 }

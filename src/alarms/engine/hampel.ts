@@ -63,9 +63,18 @@ export function median(values: readonly number[]): number {
 /** Scratch for the median and MAD of a window (grown once to the window size): no allocation per reading. */
 let scratch = new Float64Array(32);
 
-/** Median of values[0..n) sorted in place in `scratch`. */
+/** Median of scratch[0..n), sorted in place (insertion sort: windows are a few dozen readings). */
 function sortedMedian(n: number): number {
-  const s = scratch.subarray(0, n).sort();
+  const s = scratch;
+  for (let i = 1; i < n; i++) {
+    const v = s[i];
+    let j = i - 1;
+    while (j >= 0 && s[j] > v) {
+      s[j + 1] = s[j];
+      j--;
+    }
+    s[j + 1] = v;
+  }
   const m = n >> 1;
   return n % 2 === 1 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
@@ -84,7 +93,7 @@ const madScratch = new Float64Array(1);
 
 function push(state: HampelState, x: number, windowSamples: number): void {
   state.window.push(x);
-  if (state.window.length > windowSamples) state.window.splice(0, state.window.length - windowSamples);
+  while (state.window.length > windowSamples) state.window.shift();
 }
 
 /**

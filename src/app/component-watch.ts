@@ -29,7 +29,7 @@ export interface ComponentWatch {
 export function watchComponents(o: {
   report: (change: ComponentChange) => void;
   brokerUrl: string;
-  database?: () => { dbReachable: boolean | null; lastError: string | null; spoolFillRatio?: number | null };
+  database?: () => { dbReachable: boolean | null; lastError: string | null; spoolFillRatio?: number | null; spoolDiskFreeBytes?: number | null };
   every_ms: number;
   scheduler?: SchedulerLike;
 }): ComponentWatch {
@@ -46,7 +46,9 @@ export function watchComponents(o: {
     poll = interval(o.every_ms, o.scheduler ?? asyncScheduler).subscribe(() => {
       const s = db();
       if (s.dbReachable === false) {
-        const spool = s.spoolFillRatio === undefined || s.spoolFillRatio === null ? '' : ` (spool ${(100 * s.spoolFillRatio).toFixed(1)} % full)`;
+        // The fill is of the spool's own limit; the disk may fill long before it.
+        const disk = s.spoolDiskFreeBytes === undefined || s.spoolDiskFreeBytes === null ? '' : `, ${readableBytes(s.spoolDiskFreeBytes)} free on its disk`;
+        const spool = s.spoolFillRatio === undefined || s.spoolFillRatio === null ? '' : ` (spool ${(100 * s.spoolFillRatio).toFixed(1)} % of its limit${disk})`;
         change('database', `unreachable: ${s.lastError ?? 'no answer'}; results go to the spool${spool}`, 'database_unreachable');
       } else if (s.dbReachable === true) change('database', null, 'database_reachable');
     });
@@ -67,4 +69,9 @@ export function watchComponents(o: {
     },
     stop() { poll?.unsubscribe(); },
   };
+}
+
+/** Bytes as KiB below 1 MiB, else MiB, one decimal. */
+function readableBytes(n: number): string {
+  return n < 1024 ** 2 ? `${(n / 1024).toFixed(1)} KiB` : `${(n / 1024 ** 2).toFixed(1)} MiB`;
 }

@@ -35,7 +35,10 @@ export interface LiveDeps {
 }
 
 export interface LiveProcessor {
+  /** The intake connection (scans and commands in). */
   connection: MqttConnection;
+  /** The connection the processor publishes on (presence and its last will, alarms, dead letters). */
+  outbound: MqttConnection;
   /** The live page's address; null without a `live_page` section. */
   pageUrl: string | null;
   status(): Record<string, unknown>;
@@ -81,11 +84,19 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
     subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
-    ...(statusTopic === null ? {} : { will: { topic: statusTopic, payload: presenceMessage('offline', who, deps.now()), retain: true } }),
   }, { now: deps.now, log: deps.log, warn: deps.warn });
+  // The processor's own publishes (presence and its last will, alarms, dead-letter copies) on a
+  // connection of their own: their PUBACKs never queue behind scans the intake has stopped reading
+  // (src/adapters/mqtt/intake-window.ts), so intake can stay paused and memory bounded.
+  const outbound = await connectMqtt({
+    ...brokerAccess(rc, baseDir), clientId: `${rc.mqtt.client_id}-out`, protocolVersion: connection.protocolVersion, fallbackToV311: false,
+    keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
+    reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms,
+    ...(statusTopic === null ? {} : { will: { topic: statusTopic, payload: presenceMessage('offline', who, deps.now()), retain: true } }),
+  }, { now: deps.now, log: (event, detail) => deps.log(event, { ...detail, connection: 'outbound' }), warn: deps.warn });
 
   const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
-  if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(connection.publish, structure.structureId, rc.dead_letters.mqtt_topic, rc.dead_letters.mqtt_max_packet_bytes));
+  if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(outbound.publish, structure.structureId, rc.dead_letters.mqtt_topic, rc.dead_letters.mqtt_max_packet_bytes));
   const deadLetters = new DeadLetterFanOut(deadLetterSinks);
   const decodeCounts = newDecodeCounts();
   const processor = new FrameProcessor<PipelineMessage>(structure);
@@ -133,7 +144,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       return event;
     }),
   ), pageCommands$.pipe(map(takeCommand))), {
-    cfg: alarmsCfg, lookups, now: deps.now, sink, publish: connection.publish, ...alarmFiles,
+    cfg: alarmsCfg, lookups, now: deps.now, sink, publish: outbound.publish, ...alarmFiles,
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
     componentFaults$,
@@ -162,7 +173,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     mqtt: connection.stats(),
     alarms: alarmWiring?.counts() ?? null,
   });
-  const presence = statusTopic === null ? null : startPresence(connection.publish, statusTopic, who, () => {
+  const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();
     return {
       frames: processor.counts.frames, results: processor.counts.results, rejected_messages: decodeCounts.rejected,
@@ -173,6 +184,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
 
   return {
     connection,
+    outbound,
     pageUrl: page?.url ?? null,
     status,
     async stop() {
@@ -186,6 +198,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       await capture?.close();
       await presence?.stop(); // `stopped`, retained, before the DISCONNECT that keeps the will unsent
       await connection.close();
+      await outbound.close();
     },
   };
 }

@@ -3,7 +3,7 @@
  * (free loopback port, `max_inflight_messages` equal to `mqtt.max_held_acks` as the README asks),
  * results to line-protocol files. A backlog of 10x the limit queued in the persistent session
  * before the processor starts, and a burst of 3x the limit of refused messages followed by good
- * scans: every message is taken, and none is lost. MQTT 5 and 3.1.1.
+ * scans: every message is taken, none is lost, and no more than the limit is held. MQTT 5 and 3.1.1.
  */
 import { mkdtemp, readdir, readFile, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -40,7 +40,9 @@ async function until(check: () => boolean | Promise<boolean>, ms: number): Promi
 /** Distinct `seq` of lg-span1's raw records, and the number of flange-south-mid1 results, in the files. */
 async function written(lpDir: string): Promise<{ rawSeqs: Set<number>; rawLines: number; results: number }> {
   const files = (await readdir(lpDir).catch(() => [] as string[])).filter((f) => f.endsWith('.lp'));
-  const points = decodeLines((await Promise.all(files.map((f) => readFile(join(lpDir, f), 'utf8')))).join(''));
+  // Whole lines only: a file may be read while a write is appending to it.
+  const texts = await Promise.all(files.map((f) => readFile(join(lpDir, f), 'utf8')));
+  const points = decodeLines(texts.map((t) => t.slice(0, t.lastIndexOf('\n') + 1)).join(''));
   const raw = points.filter((p) => p.measurement === 'sw_raw' && p.tags.logger === 'lg-span1');
   return {
     rawSeqs: new Set(raw.map((p) => p.fields.seq)),
@@ -97,11 +99,13 @@ describe.each([5, 4] as const)('live intake at mqtt.max_held_acks, MQTT protocol
     expect(w.rawSeqs.size).toBe(10 * LIMIT); // 0 lost
     expect(w.results).toBeGreaterThanOrEqual(10 * LIMIT);
     expect(mqttStats.connects).toBe(1); // no keep-alive timeout, no reconnect
-    // Mosquitto 2.0.11 keeps to the window only until the first PUBACK; while the processor's own
-    // publishes (presence) await their PUBACK it reads on, and what came beyond the window is
-    // counted and warned about once for the connection.
-    expect(mqttStats.overWindow > 0).toBe(mqttStats.peakHeldAcks > LIMIT);
-    expect(warnings).toHaveLength(mqttStats.overWindow > 0 ? 1 : 0);
+    // Mosquitto 2.0.11 keeps to the window only until the first PUBACK, then sends more; intake
+    // stops reading at the window, and nothing it awaits (its own publishes go out on the
+    // outbound connection) makes it read on: memory stays bounded by the window.
+    expect(mqttStats.peakHeldAcks).toBeLessThanOrEqual(LIMIT);
+    expect(mqttStats.overWindow).toBe(0);
+    expect(mqttStats.pauses).toBeGreaterThan(0);
+    expect(warnings).toEqual([]);
     console.log(`MQTT ${protocolVersion}: backlog ${10 * LIMIT}, window ${LIMIT}: peak held ${mqttStats.peakHeldAcks}, beyond the window ${mqttStats.overWindow}, pauses ${mqttStats.pauses}`);
   });
 
@@ -117,7 +121,7 @@ describe.each([5, 4] as const)('live intake at mqtt.max_held_acks, MQTT protocol
     await publishAll(broker.url, [thermal(), ...Array.from({ length: 3 * LIMIT }, (_, k) => refused(k)), ...Array.from({ length: good }, (_, seq) => scan(seq))]);
     const lpDir = join(dir, clientId, 'lp');
     await until(async () => (await written(lpDir)).rawSeqs.size >= good && copies >= 3 * LIMIT, 30_000);
-    const status = live.status() as { deadLetters: { messages: number }; mqtt: { connects: number } };
+    const status = live.status() as { deadLetters: { messages: number }; mqtt: { connects: number; peakHeldAcks: number } };
     await live.stop();
     await watcher.endAsync();
 
@@ -128,5 +132,6 @@ describe.each([5, 4] as const)('live intake at mqtt.max_held_acks, MQTT protocol
     const file = (await readFile(join(dir, clientId, 'dl.ndjson'), 'utf8')).trim().split('\n');
     expect(file).toHaveLength(3 * LIMIT);
     expect(status.mqtt.connects).toBe(1);
+    expect(status.mqtt.peakHeldAcks).toBeLessThanOrEqual(LIMIT);
   });
 });

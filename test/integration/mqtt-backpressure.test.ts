@@ -1,7 +1,7 @@
 /**
  * Intake back-pressure against a real Mosquitto (started here on a free loopback port): with
  * maxHeldAcks messages unacknowledged the connection stops reading, and the rest wait at the broker;
- * but an answer the client awaits (PUBACK of its own publish, PINGRESP) is always read.
+ * but an answer the client awaits (PUBACK of its own publish) is always read.
  */
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -38,7 +38,7 @@ describe('MQTT intake back-pressure', () => {
     await conn.close();
   });
 
-  it('paused at maxHeldAcks, still reads on to the PINGRESP and to the PUBACK of its own publish, and counts what came beyond the window', async () => {
+  it('paused at maxHeldAcks, stays paused through keep-alive pings, reads on to the PUBACK of its own publish, and counts what came beyond the window', async () => {
     // MQTT 3.1.1 to a broker allowing 2000 in flight: it sends far more than the window of 50.
     const warnings: string[] = [];
     const conn = await connectMqtt(
@@ -48,23 +48,20 @@ describe('MQTT intake back-pressure', () => {
     const received: InboundMessage[] = [];
     conn.messages$.subscribe((m) => received.push(m));
     const pub = await mqtt.connectAsync(broker.url, { clientId: 'test-bpa-pub' });
-    const publishBatch = (from: number) => Promise.all(Array.from({ length: 500 }, (_, i) => pub.publishAsync(`bpa/${from + i}`, 'x', { qos: 1 })));
-    await publishBatch(0);
+    await Promise.all(Array.from({ length: 500 }, (_, i) => pub.publishAsync(`bpa/${i}`, 'x', { qos: 1 })));
     await new Promise((r) => setTimeout(r, 300));
     expect(received.length).toBeLessThanOrEqual(51); // paused, nothing awaited
     expect(warnings).toEqual([]);
-    // Held for 4 s, twice the keep-alive: the PINGREQ goes out and the client reads on to its PINGRESP.
+    // Held for 4 s, twice the keep-alive: PINGREQs go out, but the client stays paused (their
+    // PINGRESPs lie behind the 450 messages) and the connection is not given up.
     await new Promise((r) => setTimeout(r, 4000));
-    expect(received.length).toBe(500);
+    expect(received.length).toBeLessThanOrEqual(51);
     expect(conn.stats().reconnectAttempts).toBe(0);
-    await publishBatch(500);
-    await new Promise((r) => setTimeout(r, 300));
-    expect(received.length).toBeLessThanOrEqual(501); // paused again
     // Our own publish: its PUBACK lies behind the messages on the wire, so the client reads on to it.
     await conn.publish('bpa-out/copy', 'copy', { qos: 1 });
-    expect(received.length).toBe(1000);
-    expect(conn.stats().overWindow).toBe(1000 - 50);
-    expect(conn.stats().peakHeldAcks).toBe(1000);
+    expect(received.length).toBe(500);
+    expect(conn.stats().overWindow).toBe(500 - 50);
+    expect(conn.stats().peakHeldAcks).toBe(500);
     expect(warnings).toEqual(['mqtt_window_exceeded']); // once per connection
     expect(conn.stats().connects).toBe(1);
     for (const m of received) m.ack();

@@ -196,6 +196,8 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
       } else if (named !== null) {
         endedBy = named;
         client.end(true); // credentials do not come right by retrying
+        // Publishes waiting for the reconnect would wait for ever: fail them now.
+        (client as unknown as { _flush(): void })._flush();
         onLoginRefused(named);
       }
     });

@@ -33,9 +33,11 @@ const RELEASED = Symbol('strainward.released-puback');
  * own in-flight limit), but Mosquitto 2.0.11 keeps to it only until the first PUBACK. So at
  * maxHeldAcks held, mqtt.js is not told that its PUBACK went out until the count is back to half,
  * and reads no further packet meanwhile — unless an answer of the broker is awaited (SUBACK,
- * PUBACK of our own publish, PINGRESP): it lies behind the messages on the wire (and a dead
- * letter's message waits for its copy's PUBACK), so then the client reads on, and the messages
- * beyond the window are taken, counted and warned about once per connection. Mutates `client`.
+ * PUBACK of our own publish): it lies behind the messages on the wire (and a dead letter's
+ * message waits for its copy's PUBACK), so then the client reads on, and the messages beyond the
+ * window are taken, counted and warned about once per connection. Publishing on a connection of
+ * its own (as the live job does) keeps those answers off this one. A PINGREQ sent while paused
+ * does not make it read on. Mutates `client`.
  */
 export function holdPubacks(
   client: MqttClient, maxHeldAcks: number, protocolVersion: 4 | 5,
@@ -70,6 +72,14 @@ export function holdPubacks(
         return;
       }
       cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
+      return;
+    }
+    if (packet.cmd === 'pingreq' && deferred !== null) {
+      // Paused: the PINGRESP lies behind what waits to be read, and reading on for it would take
+      // in all of that. The broker still hears from us (this PINGREQ, the PUBACKs); we look for
+      // its answer once we read again, and a dead connection shows then (or when a write fails).
+      sendPacket(packet, cb, ...rest);
+      client.reschedulePing(true);
       return;
     }
     if (packet.cmd === 'pingreq') pingOutstanding = true;

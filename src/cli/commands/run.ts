@@ -30,6 +30,7 @@ export function runCommand(): Command {
         process.once('SIGINT', () => done(null));
         process.once('SIGTERM', () => done(null));
         void live.connection.loginRefused.then(done);
+        void live.outbound.loginRefused.then(done);
       });
       if (timer) clearInterval(timer);
       await live.stop();

@@ -71,6 +71,9 @@ describe('a simulated compressed day through the live pipeline', () => {
       capture: { dir: join(dir, 'capture'), flush_every_ms: 200 },
       alarms: { state_file: join(dir, 'alarm-state.json'), log_file: join(dir, 'alarms.ndjson') },
       tick_ms: 200,
+      // The slab logger's clock drifts to 6 s ahead by the end (100,000 ppm over 60 s) and the publisher
+      // starts up to 2 s early: within this tolerance its scans are results (and a clock alarm), not refusals.
+      ingest: { max_future_s: 15 },
     }, 'test');
     const live = await startLive({ runtime: rc, structure, baseDir: dir }, { now: Date.now, log: () => {} });
     // 60 s published in real time (the logger clocks must agree with the processor's for the clock
@@ -184,7 +187,7 @@ describe('a simulated compressed day through the live pipeline', () => {
     const sink = new MemorySink();
     const summary = await replay({
       structure, messages: readCapture(join(dir, 'capture')), sink, runTag: 'check', tickMs: 200, speed: 0,
-      deadLetters: { write: async () => {} }, sleep: async () => {},
+      deadLetters: { write: async () => {} }, sleep: async () => {}, maxFutureMs: 15_000, // the live run's ingest.max_future_s
     });
     expect(summary.messages).toBe(scans.length);
     const strip = (points: readonly Point[]) => encodeLines(points.filter((p) => p.measurement === 'sw_result')

@@ -17,6 +17,16 @@ describe('core boundaries', () => {
     }
   });
 
+  it('src/fatigue imports nothing but its own files (pure maths: no RxJS, Node I/O, adapters or pipeline)', () => {
+    const dir = 'src/fatigue';
+    for (const file of readdirSync(dir)) {
+      const text = readFileSync(join(dir, file), 'utf8');
+      for (const m of text.matchAll(/(?:from|import)\s*\(?\s*'([^']+)'/g)) {
+        expect(m[1].startsWith('./'), `${file} imports ${m[1]}`).toBe(true);
+      }
+    }
+  });
+
   it('the evaluator quality bits follow QUALITY_FLAGS', () => {
     expect(bits.BIT_TEMPERATURE_STALE).toBe(qualityBit('temperature_stale'));
     expect(bits.BIT_TEMPERATURE_MISSING).toBe(qualityBit('temperature_missing'));

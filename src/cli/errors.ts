@@ -7,9 +7,10 @@ import { MissingReadingError, UnknownGroupError } from '../results/calculate.js'
  * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent), 5 an
  * acknowledgement refused by the processor or left without a verdict (`ack`), 6 the replayed capture
  * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same), 7 the
- * broker refused the login (user name, password, authorisation; at start-up or on a later reconnect).
+ * broker refused the login (user name, password, authorisation; at start-up or on a later reconnect),
+ * 8 the replay window holds no data (`replay`: nothing to replay, nothing written).
  */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6, brokerLogin: 7 } as const;
+export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6, brokerLogin: 7, emptyWindow: 8 } as const;
 
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {
@@ -35,6 +36,14 @@ export class CaptureGapsError extends Error {
   }
 }
 
+/** `strainward replay`: the capture holds no message in the window asked for. */
+export class EmptyWindowError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'EmptyWindowError';
+  }
+}
+
 /** Named error for bad command-line options (after zod validation). */
 export class UsageError extends Error {
   constructor(message: string) {
@@ -48,6 +57,7 @@ export function exitCodeFor(err: unknown): number {
   if (err instanceof SilentProcessorError) return EXIT.silent;
   if (err instanceof AckRefusedError) return EXIT.refused;
   if (err instanceof CaptureGapsError) return EXIT.gaps;
+  if (err instanceof EmptyWindowError) return EXIT.emptyWindow;
   if (err instanceof BrokerLoginRefusedError) return EXIT.brokerLogin;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError) return EXIT.usage;
   return EXIT.runtime;

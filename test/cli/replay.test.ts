@@ -120,4 +120,21 @@ describe('strainward replay', () => {
     expect(second.results).toBe(first.results); // the command is not a logger message
     expect(second.rejected).toBe(0);
   });
+
+  it('refuses what cannot give a result, each with a sentence: an empty window (exit 8), --compare-structure without --report (exit 2), a missing capture (exit 2)', async () => {
+    const lines: string[] = [];
+    const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => { lines.push(String(s)); return true; });
+    const go = (args: string[]) => main(['node', 'strainward', ...args]);
+    try {
+      const base = ['replay', '--capture', join(dir, 'capture'), '-s', 'config/brannock-mere.yaml', '--out', join(dir, 'empty')];
+      expect(await go([...base, '--from', '2030-01-01T00:00:00Z'])).toBe(8);
+      expect(lines.join('')).toContain('no data to replay');
+      expect(await go([...base, '--compare-structure', 'config/brannock-mere.yaml'])).toBe(2);
+      expect(lines.join('')).toMatch(/--compare-structure goes with --report/);
+      lines.length = 0;
+      expect(await go(['replay', '--capture', join(dir, 'nowhere'), '-s', 'config/brannock-mere.yaml', '--out', join(dir, 'empty')])).toBe(2);
+      expect(lines.join('')).toContain(`no capture at ${join(dir, 'nowhere')}: the directory or its index file does not exist`);
+      expect(lines.join('')).not.toContain('ENOENT');
+    } finally { e.mockRestore(); }
+  });
 });

@@ -1,4 +1,4 @@
-import { writeFile } from 'node:fs/promises';
+import { stat, writeFile } from 'node:fs/promises';
 import { resolve } from 'node:path';
 import { Command } from 'commander';
 import { z } from 'zod';
@@ -18,7 +18,7 @@ import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import { parseOptions } from '../options.js';
-import { CaptureGapsError, UsageError } from '../errors.js';
+import { CaptureGapsError, EmptyWindowError, UsageError } from '../errors.js';
 
 const isoTime = z.string().refine((s) => Number.isFinite(Date.parse(s)), 'expected an ISO 8601 time, e.g. 2026-11-30T06:00:00Z');
 
@@ -40,7 +40,8 @@ export const ReplayOptionsSchema = z.strictObject({
   acceptGaps: z.boolean().default(false),
 }).refine((o) => o.config !== undefined || o.structure !== undefined, { message: 'give --config (runtime file) or --structure', path: ['structure'] })
   .refine((o) => !o.database || o.config !== undefined, { message: '--database needs --config (it names the database)', path: ['database'] })
-  .refine((o) => o.reportPdf === undefined || o.report !== undefined, { message: '--report-pdf goes with --report', path: ['reportPdf'] });
+  .refine((o) => o.reportPdf === undefined || o.report !== undefined, { message: '--report-pdf goes with --report', path: ['reportPdf'] })
+  .refine((o) => o.compareStructure === undefined || o.report !== undefined, { message: '--compare-structure goes with --report (the comparison is a section of the report)', path: ['compareStructure'] });
 
 /** `strainward replay`: a capture, or a window of it, through the live pipeline with any configuration. */
 export function replayCommand(): Command {
@@ -97,6 +98,10 @@ export function replayCommand(): Command {
         : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
       const first = await run(structure, o.runTag, sink, o.report !== undefined);
       process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitions.length} alarm transitions\n`);
+      if (first.messages === 0) {
+        const span = `${o.from ?? 'its start'} to ${o.to ?? 'its end'}`;
+        throw new EmptyWindowError(`no data to replay: the capture at ${o.capture} holds no message from ${span}; nothing was written`);
+      }
       const lost = gaps.reduce((n, g) => n + (g.messages ?? 0), 0);
       const gapSummary = `${gaps.length} capture gap${gaps.length === 1 ? '' : 's'}, ${lost} messages lost${gaps.some((g) => g.messages === null) ? ' (and some of unknown size)' : ''}`;
       if (gaps.length > 0) process.stderr.write(`${gapSummary}: results and alarms of those periods are missing\n`);
@@ -105,8 +110,8 @@ export function replayCommand(): Command {
           ? await run(await loadStructureFile(o.compareStructure), `${o.runTag}-compare`, new MemorySink(), true)
           : null;
         const html = renderReport({
-          title: `${structure.config.structure.name} - replay ${o.runTag}`, structureId: structure.structureId, generatedAtMs: Date.now(),
-          run: { label: o.structure ?? 'configuration', results: first.collected }, alarms: first.transitions.map(reportAlarm),
+          title: `${structure.config.structure.name} – diagnosis report of a replay`, structureId: structure.structureId, generatedAtMs: Date.now(),
+          run: { label: `run tag ${o.runTag}, configuration ${o.structure ?? o.config}`, results: first.collected }, alarms: first.transitions.map(reportAlarm),
           limits: reportLimits(structure.alarms), captureGaps: gaps,
           comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
         });
@@ -129,11 +134,15 @@ function gapLine(g: CaptureGap): string {
 
 async function countInWindow(dir: string, w: { fromMs?: number; toMs?: number }): Promise<number> {
   try {
+    if (!(await stat(dir)).isDirectory()) throw Object.assign(new Error('not a directory'), { code: 'ENOTDIR' });
     const index = await readCaptureIndex(dir);
     return index.files
       .filter((f) => (w.toMs === undefined || f.firstArrivalMs < w.toMs) && (w.fromMs === undefined || f.lastArrivalMs >= w.fromMs))
       .reduce((n, f) => n + f.count, 0);
-  } catch {
-    throw new UsageError(`no capture index in ${dir}`);
+  } catch (err) {
+    const code = (err as { code?: string }).code;
+    const why = code === 'ENOTDIR' ? 'it is not a directory' : code === 'ENOENT' ? 'the directory or its index file does not exist (a capture is written by `strainward run` or `strainward record`)'
+      : code === 'EACCES' ? 'its index cannot be read (permission denied)' : 'its index cannot be read';
+    throw new UsageError(`no capture at ${dir}: ${why}`);
   }
 }

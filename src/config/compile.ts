@@ -1,3 +1,4 @@
+import { compileFatigue, type CompiledFatigue } from './compile-fatigue.js';
 import type { AlarmsConfig } from '../alarms/schema.js';
 import type { ChannelDirectory } from '../model/channel-directory.js';
 import type { GroupModel } from '../mechanics/group-model.js';
@@ -42,6 +43,8 @@ export interface CompiledStructure {
   materials: Map<string, MaterialModel>;
   /** The validated `alarms` section (defaults filled in); null when the file has none. */
   alarms: AlarmsConfig | null;
+  /** The compiled `fatigue` section; null or absent when the file has none. */
+  fatigue?: CompiledFatigue | null;
 }
 
 export type CompileResult = { ok: true; structure: CompiledStructure } | { ok: false; problems: ValidationProblem[] };
@@ -82,6 +85,8 @@ export function compileStructure(input: unknown): CompileResult {
       temperatures: grp.temperature_sensors.map((id) => sensorById.get(id)!),
     });
   });
+  const fatigue = c.fatigue ? compileFatigue(c, c.fatigue) : { fatigue: null, problems: [] };
+  problems.push(...fatigue.problems);
   if (problems.length > 0) return { ok: false, problems };
 
   // Logger id -> its channel ids: every message's channels are looked up without building a key.
@@ -110,6 +115,7 @@ export function compileStructure(input: unknown): CompileResult {
       temperatureSensors: sensorById,
       materials,
       alarms: c.alarms ?? null,
+      fatigue: fatigue.fatigue,
     },
   };
 }

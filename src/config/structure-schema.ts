@@ -3,6 +3,7 @@ import { IdSchema, MaterialSchema } from './material-schema.js';
 import { GaugeSchema, TemperatureSensorSchema } from './gauge-schema.js';
 import { GroupSchema } from './group-schema.js';
 import { AlarmsConfigSchema } from '../alarms/schema.js';
+import { FatigueConfigSchema } from './fatigue-schema.js';
 
 /**
  * One instrumented structure: materials, loggers, gauges, temperature sensors and gauge groups.
@@ -31,6 +32,8 @@ export const StructureConfigSchema = z.strictObject({
   groups: z.array(GroupSchema).min(1),
   /** Alarm rules, routing and health settings (the alarms module's schema; absent: no alarms). */
   alarms: AlarmsConfigSchema.optional(),
+  /** Fatigue details: rainflow counting and damage per detail (absent: no fatigue counting). */
+  fatigue: FatigueConfigSchema.optional(),
 });
 
 export type StructureConfig = z.infer<typeof StructureConfigSchema>;

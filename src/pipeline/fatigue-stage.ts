@@ -1,0 +1,82 @@
+import { Observable, type OperatorFunction } from 'rxjs';
+import type { CompiledFatigue, CompiledFatigueDetail, FatigueStressReader } from '../config/compile-fatigue.js';
+import { detailFigures, detailFlagged, detailTrusted, newDetailState, type FatigueDetailState, type FatigueFigures } from '../fatigue/detail.js';
+import type { GroupResult } from '../model/result.js';
+import type { FrameOutput } from './process-frames.js';
+
+/** The fatigue state of every detail, keyed by detail id (what the state file keeps). */
+export type FatigueStates = Map<string, FatigueDetailState>;
+
+/** Figures of every detail at one pipeline time: written to the database and the state file, shown on pages. */
+export interface FatigueSnapshot {
+  kind: 'fatigue';
+  /** Pipeline clock, epoch ms. */
+  nowMs: number;
+  details: { id: string; groupId: string; figures: FatigueFigures }[];
+}
+
+/** The detail's stress from a result, MPa; NaN when the result lacks it. */
+export function readStress(r: FatigueStressReader, v: GroupResult['values']): number {
+  if (r.kind === 'axial') return (v.stress_axial_MPa ?? NaN) * r.factor;
+  if (r.kind === 'principal') return v[r.quantity] ?? NaN;
+  // A zero coefficient needs no component (0 x a missing one would be NaN).
+  return term(r.a, v.stress_xx_MPa) + term(r.b, v.stress_yy_MPa) + term(r.c, v.stress_xy_MPa);
+}
+
+function term(k: number, x: number | undefined): number {
+  return k === 0 ? 0 : k * (x ?? NaN);
+}
+
+/**
+ * Counts fatigue on the processed stream, the same live and in replay: only results without a
+ * quality flag are counted; a flagged one breaks its detail's sequence (detail.ts). Emits a
+ * snapshot every `writeIntervalMs` of pipeline clock (ticks and arrivals), and one at completion.
+ * `states` is mutated in place (pass the restored state file's map to continue after a restart).
+ */
+export function fatigueStage<M>(cfg: CompiledFatigue, states: FatigueStates): OperatorFunction<FrameOutput<M>, FatigueSnapshot> {
+  const byGroup = new Map<string, CompiledFatigueDetail[]>();
+  for (const d of cfg.details) {
+    byGroup.set(d.groupId, [...(byGroup.get(d.groupId) ?? []), d]);
+    if (!states.has(d.id)) states.set(d.id, newDetailState(d.params));
+  }
+  const snapshot = (nowMs: number): FatigueSnapshot => ({
+    kind: 'fatigue', nowMs,
+    details: cfg.details.map((d) => ({ id: d.id, groupId: d.groupId, figures: detailFigures(states.get(d.id)!, d.params, nowMs) })),
+  });
+  return (source) => new Observable<FatigueSnapshot>((subscriber) => {
+    let clockMs = Number.NEGATIVE_INFINITY;
+    let nextWriteMs = Number.NaN;
+    const advance = (t: number) => {
+      if (!(t > clockMs)) return;
+      clockMs = t;
+      if (Number.isNaN(nextWriteMs)) nextWriteMs = t + cfg.writeIntervalMs;
+      else if (t >= nextWriteMs) {
+        subscriber.next(snapshot(t));
+        nextWriteMs = t + cfg.writeIntervalMs;
+      }
+    };
+    return source.subscribe({
+      next(o) {
+        if (o.kind === 'tick') return advance(o.nowMs);
+        if (o.kind !== 'frame') return;
+        for (const r of o.results) {
+          const ds = byGroup.get(r.groupId);
+          if (ds === undefined) continue;
+          for (const d of ds) {
+            const s = states.get(d.id)!;
+            if (r.flags.length > 0) { detailFlagged(s); continue; }
+            const x = readStress(d.reader, r.values);
+            if (Number.isFinite(x)) detailTrusted(s, d.params, r.timeMs, x);
+            else detailFlagged(s);
+          }
+        }
+        advance(o.frame.arrivalMs);
+      },
+      error: (e) => subscriber.error(e),
+      complete() {
+        if (Number.isFinite(clockMs)) subscriber.next(snapshot(clockMs));
+        subscriber.complete();
+      },
+    });
+  });
+}

@@ -35,11 +35,22 @@ export function activeSpans(transitions: readonly ReportAlarmTransition[], cls: 
 }
 
 const ROW = 18;
+
+/**
+ * How a level's bar looks, lowest level first (the configuration's order): outlined and dashed,
+ * hatched, solid; each also carries its symbol and name in words beside the bar.
+ */
+const LEVEL_LOOKS: readonly { fill: (id: string) => string; stroke: number; dash: boolean; symbol: string }[] = [
+  { fill: () => '#ffffff', stroke: 1.2, dash: true, symbol: '○' },
+  { fill: (id) => `url(#${id}-hatch)`, stroke: 1, dash: false, symbol: '△' },
+  { fill: () => '#333333', stroke: 1, dash: false, symbol: '■' },
+];
 /** Width of one character of the 11 px label font, px (generous, so labels are never cut). */
 const CHAR_PX = 6.6;
 
 /** Timeline of active spans as SVG, one row per label; a span still open runs to toMs. Pure. */
-export function timelineChart(spans: readonly ActiveSpan[], fromMs: number, toMs: number, widthPx: number, title: string): string {
+export function timelineChart(spans: readonly ActiveSpan[], fromMs: number, toMs: number, widthPx: number, title: string, levels: readonly string[] = []): string {
+  const id = title.toLowerCase().replace(/[^a-z0-9]+/g, '-');
   const labels = [...new Set(spans.map((s) => s.label))];
   // Room for the longest label, up to 45 % of the width (longer ones are shortened, full text on hover).
   const maxChars = Math.floor((widthPx * 0.45 - 12) / CHAR_PX);
@@ -51,13 +62,20 @@ export function timelineChart(spans: readonly ActiveSpan[], fromMs: number, toMs
   const X = (t: number) => LEFT + ((Math.min(Math.max(t, fromMs), toMs) - fromMs) / span) * pw;
   const r1 = (v: number) => (Math.round(v * 10) / 10).toString();
   const parts = [`<svg xmlns="http://www.w3.org/2000/svg" class="chart timeline" width="${widthPx}" height="${H}" viewBox="0 0 ${widthPx} ${H}" role="img" aria-label="${esc(title)}">`, `<title>${esc(title)}</title>`];
+  parts.push(`<defs><pattern id="${id}-hatch" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#fff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#333" stroke-width="2.5"/></pattern></defs>`);
   parts.push(`<rect class="plot" x="${LEFT}" y="10" width="${pw}" height="${H - 40}"/>`);
   labels.forEach((label, i) => {
     const y = 10 + i * ROW;
     parts.push(`<text class="tick" x="${LEFT - 6}" y="${y + 13}" text-anchor="end"><title>${esc(label)}</title>${esc(shown(label))}</text>`);
     for (const s of spans.filter((x) => x.label === label)) {
       const xa = X(s.fromMs), xb = X(s.toMs ?? toMs);
-      parts.push(`<rect class="span" data-alarm="${esc(s.alarm_id)}" x="${r1(xa)}" y="${y + 3}" width="${r1(Math.max(2, xb - xa))}" height="${ROW - 6}"><title>${esc(`${s.label}: ${s.level}, ${clockLabel(s.fromMs, 1)} – ${s.toMs === null ? 'still active' : clockLabel(s.toMs, 1)}`)}</title></rect>`);
+      const rank = levels.indexOf(s.level);
+      const look = LEVEL_LOOKS[Math.min(Math.max(rank, 0), LEVEL_LOOKS.length - 1)];
+      const w = Math.max(2, xb - xa);
+      parts.push(`<rect class="span" data-alarm="${esc(s.alarm_id)}" data-level="${esc(s.level)}" x="${r1(xa)}" y="${y + 3}" width="${r1(w)}" height="${ROW - 6}" fill="${look.fill(id)}" stroke="#333" stroke-width="${look.stroke}"${look.dash ? ' stroke-dasharray="3 2"' : ''}><title>${esc(`${s.label}: ${s.level}, ${clockLabel(s.fromMs, 1)} – ${s.toMs === null ? 'still active' : clockLabel(s.toMs, 1)}`)}</title></rect>`);
+      // The level in words (and its symbol) beside the bar: never told by colour or pattern alone.
+      const after = xb + 3 + 7 * (s.level.length + 2) < LEFT + pw;
+      parts.push(`<text class="span-level" x="${r1(after ? xb + 3 : xa - 3)}" y="${y + 13}"${after ? '' : ' text-anchor="end"'}>${look.symbol} ${esc(s.level)}</text>`);
     }
   });
   if (labels.length === 0) parts.push(`<text class="empty" x="${LEFT + pw / 2}" y="25" text-anchor="middle">no alarm in this period</text>`);

@@ -55,9 +55,9 @@ export function renderReport(input: ReportInput): string {
   body.push(flaggedExtremesTable(peaks));
 
   body.push('<h2 id="health">Instrument health</h2>');
-  body.push(timelineChart(activeSpans(input.alarms, 'health'), fromMs, toMs, widthPx, 'Health alarms active'));
+  body.push(timelineChart(activeSpans(input.alarms, 'health'), fromMs, toMs, widthPx, 'Health alarms active', input.levels));
   const structural = activeSpans(input.alarms, 'structural');
-  if (structural.length) body.push(timelineChart(structural, fromMs, toMs, widthPx, 'Structural alarms active'));
+  if (structural.length) body.push(timelineChart(structural, fromMs, toMs, widthPx, 'Structural alarms active', input.levels));
 
   body.push('<h2 id="alarms">Alarms</h2>');
   body.push(alarmsTable(input.alarms));
@@ -71,6 +71,7 @@ export function renderReport(input: ReportInput): string {
       comparison: cmp && input.comparison ? { label: input.comparison.label, results: cmp } : undefined,
     }));
   }
+  // Further sections (e.g. fatigue) go here, each an <h2 id> and its content, before the comparison.
   if (input.comparison) {
     body.push('<h2 id="differences">Differences between the runs</h2>');
     body.push(differencesTable(compareRuns(input.run.results, input.comparison.results), input.run.label, input.comparison.label));

@@ -8,10 +8,11 @@ h3{font-size:15px;margin:20px 0 4px}
 .notice p{margin:4px 0}.meta{color:#555}
 table{border-collapse:collapse;margin:6px 0;font-size:13px}th,td{border:1px solid #ccc;padding:3px 7px;text-align:left}
 th{background:#eee}td.n{text-align:right;font-variant-numeric:tabular-nums}
-svg.chart{display:block;margin:4px 0 10px;background:#fff}
+svg.chart{display:block;margin:4px 0 10px;background:#fff;max-width:100%;height:auto}
+table.alarms{table-layout:fixed;width:100%;overflow-wrap:anywhere}table.alarms td,table.alarms th{padding:3px 4px}
 svg .plot{fill:#fff;stroke:#999}svg .grid{stroke:#e4e4e4}svg .limit{stroke:#a33;stroke-dasharray:3 2}
 p.warning{border-left:4px solid #7a2e2e;padding-left:8px;font-weight:600}
 svg .band{opacity:.55}svg .gap{fill:#bbb;opacity:.45}svg .series{fill:none;stroke-width:1.2}
 svg text{font:11px system-ui,sans-serif;fill:#333}svg .chart-title{font-weight:600}svg .chart-note{fill:#7a2e2e}svg .gap-label,svg .empty{fill:#666}
-svg .band-label{fill:#822}svg .span{fill:#6b7f99}
+svg .band-label{fill:#822}svg .span-level{font-size:10px}svg .off-scale{font-weight:600}
 `;

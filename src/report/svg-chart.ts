@@ -19,13 +19,13 @@ export interface ChartSpec {
   heightPx?: number;
 }
 
-const M = { left: 62, right: 14, top: 26, bottom: 30 };
+const M = { left: 62, right: 28, top: 26, bottom: 46 };
 const BAND_FILLS = ['#f3d9a4', '#eeb38f', '#e08a80', '#c96a78'];
 const r1 = (v: number) => (Math.round(v * 10) / 10).toString();
 
 /**
- * One time-series chart as an SVG element (a string). Limits far off the data's scale (more
- * than twice its extent away) are listed in the title line instead of squashing the data. Pure.
+ * One time-series chart as an SVG element (a string), scaled to its data: limits beyond the data's
+ * range are named at the top or bottom edge (with an arrow), not drawn. Pure.
  */
 export function lineChart(spec: ChartSpec): string {
   const W = spec.widthPx, H = spec.heightPx ?? 220;
@@ -34,13 +34,15 @@ export function lineChart(spec: ChartSpec): string {
   for (const s of spec.series) for (const seg of s.segments) for (const v of seg.v) { if (v < lo) lo = v; if (v > hi) hi = v; }
   const hasData = lo <= hi;
   if (!hasData) { lo = 0; hi = 1; }
-  const extent = Math.max(hi - lo, Math.abs(hi), Math.abs(lo), 1e-9);
-  const offScale: string[] = [];
+  // The axis is the data's range: a limit beyond it is named at that edge with an arrow, never
+  // drawn by stretching the axis (a 70 MPa event must not be a blip under a 250 MPa band).
+  const pad = Math.max((hi - lo) * 0.05, 1e-9);
+  const above: string[] = [], below: string[] = [];
   const bands = (spec.bands ?? []).filter((b) => {
     const lim = b.upper ?? b.lower;
     if (lim === undefined) return false;
-    if (lim > hi + 2 * extent || lim < lo - 2 * extent) { offScale.push(`${b.level} ${b.upper !== undefined ? '>' : '<'} ${tickLabel(lim)}`); return false; }
-    lo = Math.min(lo, lim); hi = Math.max(hi, lim);
+    if (lim > hi + pad) { above.push(`${b.level} ${tickLabel(lim)}`); return false; }
+    if (lim < lo - pad) { below.push(`${b.level} ${tickLabel(lim)}`); return false; }
     return true;
   });
   const yt = niceTicks(lo, hi, 5);
@@ -75,11 +77,12 @@ export function lineChart(spec: ChartSpec): string {
     parts.push(`<line class="grid" x1="${r1(X(t))}" x2="${r1(X(t))}" y1="${M.top}" y2="${M.top + ph}"/>`);
     parts.push(`<text class="tick" x="${r1(X(t))}" y="${M.top + ph + 14}" text-anchor="middle">${clockLabel(t, tt.step)}</text>`);
   }
-  parts.push(`<text class="axis-label" x="${M.left + pw}" y="${H - 3}" text-anchor="end">time (UTC)</text>`);
-  parts.push(`<text class="axis-label" x="4" y="${M.top - 8}">${esc(spec.unit)}</text>`);
+  parts.push(`<text class="axis-label" x="${M.left + pw}" y="${M.top + ph + 26}" text-anchor="end">time (UTC)</text>`);
+  // The unit runs up the y axis, clear of the title above the plot.
+  parts.push(`<text class="axis-label" x="12" y="${r1(M.top + ph / 2)}" text-anchor="middle" transform="rotate(-90 12 ${r1(M.top + ph / 2)})">${esc(spec.unit)}</text>`);
   parts.push(`<text class="chart-title" x="${M.left}" y="${M.top - 8}">${esc(spec.title)}</text>`);
-  // Limits beyond the plotted range are named under the plot, clear of the legend above it.
-  if (offScale.length) parts.push(`<text class="chart-note" x="${M.left}" y="${H - 4}">${esc(`limits off scale: ${offScale.join(', ')}`)}</text>`);
+  if (above.length) parts.push(`<text class="chart-note off-scale" data-edge="top" x="${M.left + 4}" y="${M.top + 12}">${esc(`▲ above the plot: ${above.join(', ')}`)}</text>`);
+  if (below.length) parts.push(`<text class="chart-note off-scale" data-edge="bottom" x="${M.left + 4}" y="${M.top + ph - 5}">${esc(`▼ below the plot: ${below.join(', ')}`)}</text>`);
   for (const s of spec.series) {
     for (const seg of s.segments) {
       const pts = seg.t.map((t, i) => `${r1(X(t))},${r1(Y(seg.v[i]))}`).join(' ');
@@ -87,12 +90,12 @@ export function lineChart(spec: ChartSpec): string {
       else parts.push(`<polyline class="series" data-series="${esc(s.id)}" points="${pts}" stroke="${s.color}"${s.dashed ? ' stroke-dasharray="5 3"' : ''}/>`);
     }
   }
-  let lx = M.left + pw;
-  for (const s of [...spec.series].reverse()) {
-    const w = 16 + 6.2 * s.label.length;
-    lx -= w + 10;
-    parts.push(`<line x1="${r1(lx)}" x2="${r1(lx + 12)}" y1="${M.top - 12}" y2="${M.top - 12}" stroke="${s.color}" stroke-width="2"${s.dashed ? ' stroke-dasharray="4 2"' : ''}/>`);
-    parts.push(`<text class="legend" x="${r1(lx + 16)}" y="${M.top - 8}">${esc(s.label)}</text>`);
+  // Legend under the plot, clear of the limit labels inside it.
+  let lx = M.left;
+  for (const s of spec.series) {
+    parts.push(`<line x1="${r1(lx)}" x2="${r1(lx + 12)}" y1="${H - 8}" y2="${H - 8}" stroke="${s.color}" stroke-width="2"${s.dashed ? ' stroke-dasharray="4 2"' : ''}/>`);
+    parts.push(`<text class="legend" x="${r1(lx + 16)}" y="${H - 4}">${esc(s.label)}</text>`);
+    lx += 26 + 6.2 * s.label.length;
   }
   if (!hasData) parts.push(`<text class="empty" x="${M.left + pw / 2}" y="${M.top + ph / 2}" text-anchor="middle">no data in this period</text>`);
   parts.push('</svg>');

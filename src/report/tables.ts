@@ -23,11 +23,12 @@ export function flaggedExtremesTable(peaks: readonly GroupPeaks[]): string {
   return `<p class="warning">Flagged results beyond these peaks: values computed from doubtful readings (see their flags and the instrument-health alarms). They are not the structure's peaks; check the instrument before reading anything into them.</p><table class="flagged-extremes"><thead><tr><th>group</th><th>quantity</th><th>value, MPa</th><th>at (UTC)</th><th>flags</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
 }
 
-/** Every alarm transition in time order. Pure. */
+/** Every alarm transition in time order, in columns that fit a printed page. Pure. */
 export function alarmsTable(alarms: readonly ReportAlarmTransition[]): string {
   if (alarms.length === 0) return '<p>No alarm changed state in this period.</p>';
-  const rows = [...alarms].sort((a, b) => a.time_ms - b.time_ms).map((a) => `<tr class="${a.class}"><td>${esc(isoTime(a.time_ms))}</td><td>${esc(a.class)}</td><td>${esc(a.alarm_id)}</td><td>${esc(a.state)}</td><td>${esc(a.level)}</td><td>${esc(a.group_id ?? '')}</td><td>${esc(a.channel ?? '')}</td><td>${esc(a.quantity ?? '')}</td>${cell(a.value, 3)}${cell(a.limit, 3)}<td>${esc(a.message)}</td></tr>`);
-  return `<table class="alarms"><thead><tr><th>time (UTC)</th><th>class</th><th>alarm</th><th>state</th><th>level</th><th>group</th><th>channel</th><th>quantity</th><th>value</th><th>limit</th><th>message</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+  const subject = (a: ReportAlarmTransition) => [a.group_id, a.channel, a.quantity].filter((x) => x !== undefined && x !== '').join(' · ');
+  const rows = [...alarms].sort((a, b) => a.time_ms - b.time_ms).map((a) => `<tr class="${a.class}"><td>${esc(isoTime(a.time_ms))}</td><td>${esc(a.class)}</td><td>${esc(a.level)}</td><td>${esc(a.state.replace(/_/g, ' '))}</td><td>${esc(subject(a))}<br/><small>${esc(a.alarm_id)}</small></td>${cell(a.value, 3)}${cell(a.limit, 3)}<td>${esc(a.message)}</td></tr>`);
+  return `<table class="alarms"><colgroup><col style="width:15%"/><col style="width:9%"/><col style="width:9%"/><col style="width:17%"/><col style="width:20%"/><col style="width:8%"/><col style="width:8%"/><col style="width:14%"/></colgroup><thead><tr><th>time (UTC)</th><th>class</th><th>level</th><th>state</th><th>subject and alarm</th><th>value</th><th>limit</th><th>message</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
 }
 
 /** The capture's gaps: what the replay could not read, with where and how much. Pure. */

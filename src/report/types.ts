@@ -65,6 +65,8 @@ export interface ReportInput {
    * interval is a data gap (default 3): the line breaks there and the gap is shaded.
    */
   gapFactor?: number;
+  /** The configuration's alarm levels, lowest first: the timeline draws each level differently. */
+  levels?: readonly string[];
   /** Plot width in pixels (default 860); series are reduced to min/max per pixel column. */
   plotWidthPx?: number;
 }

@@ -3,7 +3,7 @@
  * driven by playwright-core; no server, the page loads from a file and makes no request), and
  * printed to PDF by the replay command.
  */
-import { mkdtemp, readFile } from 'node:fs/promises';
+import { mkdir, mkdtemp, readFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { chromium, type Browser } from 'playwright-core';
@@ -60,6 +60,16 @@ describe('diagnosis report in a browser', () => {
     // Five groups on the invented deck: each has its own section.
     for (const g of ['web-north-pier', 'web-south-pier', 'flange-north-mid1', 'flange-south-mid1', 'slab-mid1']) {
       expect(await page.locator(`text=${g}`).count(), g).toBeGreaterThan(0);
+    }
+    // Nothing wider than an A4 page's text (about 720 px): tables and plots fit.
+    await page.setViewportSize({ width: 720, height: 900 });
+    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(720);
+    // Screenshots kept for a person to look at (test-artifacts/ is not committed).
+    await mkdir('test-artifacts', { recursive: true });
+    await page.screenshot({ path: 'test-artifacts/report-top.png' });
+    for (const [sel, name] of [['#health', 'report-health'], ['section.group', 'report-group']] as const) {
+      const y = await page.evaluate((s) => document.querySelector(s)!.getBoundingClientRect().top + window.scrollY, sel);
+      await page.screenshot({ path: `test-artifacts/${name}.png`, clip: { x: 0, y, width: 720, height: 900 }, fullPage: true });
     }
     expect(errors).toEqual([]);
     expect(requests).toEqual([]);

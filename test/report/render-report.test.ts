@@ -52,9 +52,34 @@ describe('renderReport', () => {
 
   it('draws the alarm bands of the configured limits', () => {
     expect(html).toContain('data-level="von_mises warning"');
-    expect(html).toContain('data-level="von_mises alarm"');
+    // The 150 MPa alarm limit lies beyond the data (peak about 145 MPa plus 5 % of the range): named at the top edge, the axis not stretched.
+    expect(html).not.toContain('data-level="von_mises alarm"');
+    expect(html).toMatch(/data-edge="top"[^>]*>▲ above the plot: von_mises alarm 150</);
     // A group-scoped limit appears on that group's chart only.
-    expect(html.match(/data-level="xx warning"/g)).toHaveLength(1);
+    // (its -80 MPa lies below that group's data, so it is named at the bottom edge).
+    expect(html.match(/▼ below the plot: xx warning −80/g)).toHaveLength(1);
+  });
+
+  it('scales a stress plot to its data: a 70 MPa event fills the plot under a 250 MPa limit, which is named at the edge', () => {
+    const rs = Array.from({ length: 600 }, (_, k) => result('g', T0 + k * 100, { von_mises_MPa: k === 300 ? 70 : 5 + (k % 10) * 0.1 }));
+    const one = renderReport(input({ run: { label: 'a', results: rs }, alarms: [], limits: { von_mises_MPa: [{ level: 'advisory', upper: 55 }, { level: 'action', upper: 250 }] } }));
+    const chart = svgElements(one).find((s) => s.includes('Equivalent and principal stresses'))!;
+    const ticks = [...chart.matchAll(/<text class="tick" x="57" y="[\d.]+" text-anchor="end">([^<]+)</g)].map((m) => Number(m[1].replace('−', '-')));
+    expect(Math.max(...ticks)).toBeLessThanOrEqual(80); // 70 MPa data, 5 % headroom, ticks every 10 or 20
+    expect(chart).toContain('data-level="von_mises advisory"'); // 55 lies within the data: drawn as a band
+    expect(chart).toContain('▲ above the plot: von_mises action 250');
+  });
+
+  it('tells the levels apart in the timeline by pattern and by name, not colour alone', () => {
+    const two: ReportAlarmTransition[] = [
+      { ...alarms[0], level: 'advisory' },
+      { ...alarms[2], level: 'alert' },
+    ];
+    const h = svgElements(renderReport(input({ alarms: two, levels: ['advisory', 'alert', 'action'] })))[0];
+    expect(h).toMatch(/data-level="advisory"[^>]*fill="#ffffff"[^>]*stroke-dasharray/);
+    expect(h).toMatch(/data-level="alert"[^>]*fill="url\(#health-alarms-active-hatch\)"/);
+    expect(h).toContain('○ advisory');
+    expect(h).toContain('△ alert');
   });
 
   it('shows the health timeline with one bar per active span, open spans running to the end', () => {
@@ -67,7 +92,7 @@ describe('renderReport', () => {
   it('lists every alarm transition in time order', () => {
     const table = html.slice(html.indexOf('<table class="alarms"'), html.indexOf('</table>', html.indexOf('<table class="alarms"')));
     expect(table.match(/<tr class=/g)).toHaveLength(4);
-    expect(table.indexOf('active_unacknowledged</td><td>warning')).toBeGreaterThan(table.indexOf('12:00:20'));
+    expect(table.indexOf('<td>structural</td><td>warning</td><td>active unacknowledged')).toBeGreaterThan(table.indexOf('12:00:20'));
     expect(table).toContain('data-value="101.2"');
   });
 

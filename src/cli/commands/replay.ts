@@ -112,7 +112,7 @@ export function replayCommand(): Command {
         const html = renderReport({
           title: `${structure.config.structure.name} – diagnosis report of a replay`, structureId: structure.structureId, generatedAtMs: Date.now(),
           run: { label: `run tag ${o.runTag}, configuration ${o.structure ?? o.config}`, results: first.collected }, alarms: first.transitions.map(reportAlarm),
-          limits: reportLimits(structure.alarms), captureGaps: gaps,
+          limits: reportLimits(structure.alarms), captureGaps: gaps, levels: structure.alarms?.levels,
           comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
         });
         await writeFile(await ensureParent(o.report), html);

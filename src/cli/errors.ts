@@ -1,6 +1,6 @@
 import { BrokerLoginRefusedError } from '../adapters/mqtt/login-refused.js';
 import { ConfigError } from '../config/compile.js';
-import { MissingReadingError, UnknownGroupError } from '../results/calculate.js';
+import { MissingReadingError, UnknownGroupError, UnknownReadingError } from '../results/calculate.js';
 
 /**
  * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
@@ -59,6 +59,7 @@ export function exitCodeFor(err: unknown): number {
   if (err instanceof CaptureGapsError) return EXIT.gaps;
   if (err instanceof EmptyWindowError) return EXIT.emptyWindow;
   if (err instanceof BrokerLoginRefusedError) return EXIT.brokerLogin;
-  if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError) return EXIT.usage;
+  if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError
+    || err instanceof UnknownReadingError) return EXIT.usage;
   return EXIT.runtime;
 }

@@ -52,7 +52,7 @@ export type CompileResult = { ok: true; structure: CompiledStructure } | { ok: f
 /** Validates and compiles a parsed document (from YAML or JSON). Pure: returns all problems at once. */
 export function compileStructure(input: unknown): CompileResult {
   const parsed = StructureConfigSchema.safeParse(input, { reportInput: true });
-  if (!parsed.success) return { ok: false, problems: problemsFromZod(parsed.error) };
+  if (!parsed.success) return { ok: false, problems: problemsFromZod(parsed.error, [], StructureConfigSchema) };
   const c = parsed.data;
   const problems = [...crossCheck(c), ...checkAlarmScopes(c)];
   const materials = new Map<string, MaterialModel>();

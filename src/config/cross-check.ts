@@ -1,4 +1,5 @@
 import type { ValidationProblem } from '../validation/issues.js';
+import { didYouMean } from '../validation/nearest.js';
 import type { GaugeConfig } from './gauge-schema.js';
 import type { StructureConfig } from './structure-schema.js';
 
@@ -25,7 +26,7 @@ export function crossCheck(c: StructureConfig): ValidationProblem[] {
 
   const channels = new Map<string, string>();
   const claimChannel = (ch: { logger: string; channel: string }, path: string) => {
-    if (!loggers.has(ch.logger)) add(`${path}.logger`, `unknown logger "${ch.logger}"`);
+    if (!loggers.has(ch.logger)) add(`${path}.logger`, `unknown logger "${ch.logger}"${didYouMean(ch.logger, loggers.keys())}`);
     const key = `${ch.logger}/${ch.channel}`;
     const owner = channels.get(key);
     if (owner) add(`${path}.channel`, `channel "${ch.channel}" of logger "${ch.logger}" is already used by ${owner}`);
@@ -44,17 +45,17 @@ export function crossCheck(c: StructureConfig): ValidationProblem[] {
   const usedBy = new Map<string, string>();
   c.groups.forEach((grp, gi) => {
     const base = `groups[${gi}]`;
-    if (!materials.has(grp.material)) add(`${base}.material`, `unknown material "${grp.material}"`);
+    if (!materials.has(grp.material)) add(`${base}.material`, `unknown material "${grp.material}"${didYouMean(grp.material, materials.keys())}`);
     const orientation = grp.kind === 'solid_cluster' ? 'material_rotation_deg' : 'material_angle_deg';
     const material = c.materials[materials.get(grp.material) ?? -1];
     if (material?.kind === 'isotropic' && (grp.kind === 'solid_cluster' ? grp.material_rotation_deg : grp.material_angle_deg) !== undefined) {
       add(`${base}.${orientation}`, `material "${grp.material}" is isotropic: it is the same in every orientation, so ${orientation} would change nothing (remove it)`);
     }
     grp.temperature_sensors.forEach((t, ti) => {
-      if (!sensors.has(t)) add(`${base}.temperature_sensors[${ti}]`, `unknown temperature sensor "${t}"`);
+      if (!sensors.has(t)) add(`${base}.temperature_sensors[${ti}]`, `unknown temperature sensor "${t}"${didYouMean(t, sensors.keys())}`);
     });
     const claim = (gaugeId: string, path: string) => {
-      if (!gauges.has(gaugeId)) return add(path, `unknown gauge "${gaugeId}"`);
+      if (!gauges.has(gaugeId)) return add(path, `unknown gauge "${gaugeId}"${didYouMean(gaugeId, gauges.keys())}`);
       const owner = usedBy.get(gaugeId);
       if (owner) add(path, `gauge "${gaugeId}" already belongs to ${owner}`);
       else usedBy.set(gaugeId, base);

@@ -1,6 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { dirname, resolve } from 'node:path';
 import { parse as parseYaml } from 'yaml';
+import { wrongFileKind } from '../validation/file-kind.js';
 import { problemsFromZod } from '../validation/issues.js';
 import { ConfigError, type CompiledStructure } from './compile.js';
 import { loadStructureFile } from './load.js';
@@ -15,8 +16,10 @@ export interface LoadedRuntime {
 
 /** Parses a runtime configuration document; throws ConfigError listing every problem. */
 export function parseRuntimeConfig(doc: unknown, source: string): RuntimeConfig {
+  const misplaced = wrongFileKind(doc, 'runtime');
+  if (misplaced !== null) throw new ConfigError(source, [misplaced]);
   const r = RuntimeConfigSchema.safeParse(doc, { reportInput: true });
-  if (!r.success) throw new ConfigError(source, problemsFromZod(r.error));
+  if (!r.success) throw new ConfigError(source, problemsFromZod(r.error, [], RuntimeConfigSchema));
   return r.data;
 }
 

@@ -1,6 +1,9 @@
 import type { CompiledStructure } from '../config/compile.js';
 import { evaluateGroup } from '../mechanics/evaluate-group.js';
 import { createGroupOutput, type GroupOutput } from '../mechanics/group-model.js';
+import { didYouMean } from '../validation/nearest.js';
+import { toGroupResult } from './group-result.js';
+import { limitStandings, type LimitStanding } from './limit-check.js';
 
 /** Everything the offline calculator shows for one sample of one group. */
 export interface CalculationReport {
@@ -26,19 +29,29 @@ export interface CalculationReport {
   fit_std_error_micro: number | null;
   ratios: { von_mises_to_yield: number | null; tension_to_tensile_strength: number | null; compression_to_compressive_strength: number | null };
   flags: number;
+  /** Every threshold of the limit rules whose scope includes the group, against this sample. */
+  limits: LimitStanding[];
 }
 
 export class UnknownGroupError extends Error {
   constructor(groupId: string, known: string[]) {
-    super(`unknown group "${groupId}"; the configuration has: ${known.join(', ')}`);
+    super(`unknown group "${groupId}"${didYouMean(groupId, known)}; the configuration has: ${known.join(', ')}`);
     this.name = 'UnknownGroupError';
   }
 }
 
 export class MissingReadingError extends Error {
   constructor(missing: string[]) {
-    super(`no reading given for ${missing.join(', ')} (give each element as gauge=value or channel=value; use null for a failed element)`);
+    super(`no reading given for ${missing.join(', ')} (give each element as gauge=value, channel=value or logger/channel=value; use null for a failed element)`);
     this.name = 'MissingReadingError';
+  }
+}
+
+/** A reading keyed by something that is not an element of the group (it would be silently unused), or one element given twice. */
+export class UnknownReadingError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'UnknownReadingError';
   }
 }
 
@@ -55,9 +68,19 @@ export function calculate(
   const g = structure.groupsById.get(groupId);
   if (!g) throw new UnknownGroupError(groupId, [...structure.groupsById.keys()]);
   const m = g.model;
+  // Each element answers to its gauge id, its channel id and the `logger/channel` the report prints.
+  const keysOf = (el: (typeof m.elements)[number]) => [el.gaugeId, el.channelId, `${el.loggerId}/${el.channelId}`];
+  const accepted = new Set(m.elements.flatMap(keysOf));
+  const unknown = Object.keys(readings).filter((k) => !accepted.has(k));
+  if (unknown.length > 0) {
+    const reads = m.elements.map((el) => `${el.gaugeId} (${el.loggerId}/${el.channelId})`).join(', ');
+    throw new UnknownReadingError(`${unknown.map((k) => `"${k}"${didYouMean(k, accepted)}`).join(', ')}: not an element of group "${groupId}", which reads ${reads}`);
+  }
   const missing: string[] = [];
   const raw = Float64Array.from(m.elements, (el) => {
-    const v = readings[el.gaugeId] !== undefined ? readings[el.gaugeId] : readings[el.channelId];
+    const given = keysOf(el).filter((k) => readings[k] !== undefined);
+    if (given.length > 1) throw new UnknownReadingError(`${given.map((k) => `"${k}"`).join(' and ')} are the same element (${el.gaugeId}): give it once`);
+    const v = given.length === 1 ? readings[given[0]] : undefined;
     if (v === undefined) missing.push(el.gaugeId);
     return v === null || v === undefined ? Number.NaN : v;
   });
@@ -93,6 +116,8 @@ export function calculate(
       compression_to_compressive_strength: num(out.ratioCompressionToCompressive),
     },
     flags: out.flags,
+    limits: limitStandings(structure.alarms, { id: groupId, zone: g.config.zone },
+      toGroupResult(structure.structureId, g, out, 0, null, 0, Number.NaN).values),
   };
   return { report, output: out };
 }

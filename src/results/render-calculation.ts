@@ -39,6 +39,14 @@ export function renderCalculation(r: CalculationReport): string {
   const flags = flagsFromBits(r.flags);
   out.push(`quality: ${flags.length === 0 ? 'good' : flags.join(', ')}`);
   out.push('');
+  if (r.limits.length === 0) out.push('alarm limits: none configured for this group');
+  else {
+    out.push('alarm limits of this group (margin: room left before the limit, negative once past):');
+    out.push(table(['rule', 'quantity', 'value', 'limit', 'level', 'margin', ''],
+      r.limits.map((l) => [l.rule, l.quantity, f(l.value), `${l.direction === 'above' ? '>=' : '<='} ${f(l.limit)}`, l.level, f(l.margin),
+        l.value === null ? 'not computed' : l.reached ? 'REACHED' : 'within'])));
+  }
+  out.push('');
   out.push(SAFETY);
   return out.join('\n');
 }

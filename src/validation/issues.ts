@@ -1,4 +1,6 @@
 import type { z } from 'zod';
+import { knownKeysAt } from './known-keys.js';
+import { nearest } from './nearest.js';
 
 /**
  * Validation problems as data: a path and a reason, rendered `groups[2].elements[1].angle_deg:
@@ -65,9 +67,20 @@ export function describeIssue(issue: z.core.$ZodIssue): string {
   }
 }
 
-/** All problems of a failed zod parse, prefixed by an optional base path. */
-export function problemsFromZod(error: z.ZodError, base: readonly PropertyKey[] = []): ValidationProblem[] {
-  return error.issues.map((issue) => ({ path: formatPath([...base, ...issue.path]), reason: describeIssue(issue) }));
+/**
+ * All problems of a failed zod parse, prefixed by an optional base path. Given the schema that was
+ * parsed, an unknown key is answered with the nearest key the object accepts ("did you mean").
+ */
+export function problemsFromZod(error: z.ZodError, base: readonly PropertyKey[] = [], schema?: z.ZodType): ValidationProblem[] {
+  return error.issues.map((issue) => {
+    let reason = describeIssue(issue);
+    if (schema !== undefined && issue.code === 'unrecognized_keys') {
+      const known = knownKeysAt(schema, issue.path);
+      const hints = issue.keys.map((k) => [k, nearest(k, known)] as const).filter(([, n]) => n !== null);
+      if (hints.length > 0) reason += ` (did you mean ${hints.map(([k, n]) => `"${n}" for "${k}"`).join(', ')}?)`;
+    }
+    return { path: formatPath([...base, ...issue.path]), reason };
+  });
 }
 
 export function renderProblems(problems: readonly ValidationProblem[]): string {

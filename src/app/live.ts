@@ -10,7 +10,7 @@ import { ackTopic, parseAckPayload } from '../alarms/index.js';
 import type { ComponentFault } from '../alarms/types.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
-import { compileTopicPattern, subscriptionFilter } from '../ingest/topic.js';
+import { compileTopicPattern, parseTopic, subscriptionFilter } from '../ingest/topic.js';
 import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -24,6 +24,9 @@ import type { RawMessage } from '../model/raw-message.js';
 import { ensureParent, openPointSink } from './sinks.js';
 import { failureSummary } from './failure-summary.js';
 import { loadWebhookAuth } from './webhook-auth.js';
+import { watchComponents } from './component-watch.js';
+import { deadLetterLog } from './dead-letter-log.js';
+import { transitionLogLines } from './alarm-transition-log.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -77,6 +80,15 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
+  // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
+  const warn = deps.warn ?? deps.log;
+  const watch = watchComponents({
+    report: (c) => {
+      warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined });
+      componentFaults$.next({ type: 'component', component: c.component, failure: c.failure, atMs: deps.now() });
+    },
+    brokerUrl: rc.mqtt.url, database: influx === null ? undefined : () => influx.status(), every_ms: 5_000, scheduler: deps.scheduler,
+  });
   const statusTopic = presenceTopic(rc.presence.topic, structure.structureId, rc.mqtt.client_id);
   const who = { processor: rc.mqtt.client_id, structure: structure.structureId, every_s: rc.presence.every_s };
   const connection = await connectMqtt({
@@ -84,7 +96,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
     subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
-  }, { now: deps.now, log: deps.log, warn: deps.warn });
+  }, { now: deps.now, log: (event, detail) => { watch.brokerEvent(event); deps.log(event, detail); }, warn: deps.warn });
   // The processor's own publishes (presence and its last will, alarms, dead-letter copies) on a
   // connection of their own: their PUBACKs never queue behind scans the intake has stopped reading
   // (src/adapters/mqtt/intake-window.ts), so intake can stay paused and memory bounded.
@@ -98,6 +110,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
   if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(outbound.publish, structure.structureId, rc.dead_letters.mqtt_topic, rc.dead_letters.mqtt_max_packet_bytes));
   const deadLetters = new DeadLetterFanOut(deadLetterSinks);
+  const loggerOfTopic = (topic: string): string => { const m = parseTopic(topicPattern, topic); return m.ok ? m.loggerId : topic; };
+  const deadLetterWarnings = deadLetterLog(deadLetters, warn, 10_000, deps.scheduler ?? asyncScheduler, loggerOfTopic);
   const decodeCounts = newDecodeCounts();
   const processor = new FrameProcessor<PipelineMessage>(structure);
   let writeErrors = 0;
@@ -126,7 +140,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   ).pipe(takeUntil(stop$));
   // Connected once every consumer (alarms, write-and-acknowledge) has subscribed.
   const processed$ = connectable(inputs$.pipe(pipeline<PipelineMessage>({
-    structure, topicPattern, deadLetters, decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: rc.ingest.max_future_s * 1000,
+    structure, topicPattern, deadLetters: deadLetterWarnings, decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: rc.ingest.max_future_s * 1000,
     record: capture ? (raw) => capture.append(raw) : undefined,
     onDeadLetterError: (err) => deps.log('dead_letter_failed', { message: String(err) }),
   })), { connector: () => new Subject<FrameOutput<PipelineMessage>>(), resetOnDisconnect: false });
@@ -148,7 +162,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
     componentFaults$,
-    onBatch: page === null ? undefined : (batch) => page.onAlarmBatch(batch),
+    onBatch: (batch, records) => {
+      page?.onAlarmBatch(batch);
+      watch.deliveries(records);
+      for (const [event, detail] of transitionLogLines(batch.transitions)) warn(event, detail);
+    },
   });
   page?.seedAlarms(alarmWiring?.visibleAlarms() ?? []);
   page?.attach(processed$);
@@ -193,6 +211,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       stopped$.next();
       await drained;
       writeFailures.stop();
+      deadLetterWarnings.stop();
+      watch.stop();
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await sink.close();
       await capture?.close();

@@ -48,8 +48,10 @@ describe('strainward run, restarted', () => {
     const statePath = join(dir, 'alarm-state.json');
     const logPath = join(dir, 'alarms.ndjson');
     const pub = await mqtt.connectAsync(broker.url, { clientId: 'test-restart-loggers' });
+    // A logger's clock: 100 ms between scans (published faster, so several would share a millisecond of wall clock).
+    const t0 = Date.now() - 3000;
     const scan = (k: number, ch04: number) => pub.publishAsync('strainward/brannock-mere/lg-span1/scan',
-      JSON.stringify({ ts: Date.now(), seq: k, values: { ch01: 0, ch02: 0, ch03: 0, ch04 } }), { qos: 1 });
+      JSON.stringify({ ts: Math.min(t0 + 100 * k, Date.now()), seq: k, values: { ch01: 0, ch02: 0, ch03: 0, ch04 } }), { qos: 1 });
 
     const first = startRun(runtime);
     expect(await until(() => first.log().includes('"started"'), 20_000)).toBe(true);

@@ -1,0 +1,29 @@
+import { Writable } from 'node:stream';
+import pino, { type Logger } from 'pino';
+import { formatLogChunk } from './line-format.js';
+
+/**
+ * The processor's logger on stderr: JSON lines (pino) when stderr is a file or a pipe, for
+ * machines; readable lines (`formatLogLine`) when it is a terminal, for the person on duty.
+ * `readable` overrides the terminal test (tests, `--log-format`).
+ */
+export function makeLogger(o: { readable?: boolean; fd?: number; write?: (line: string) => void } = {}): Logger {
+  const fd = o.fd ?? 2;
+  const readable = o.readable ?? Boolean(fd === 2 ? process.stderr.isTTY : process.stdout.isTTY);
+  if (!readable && o.write === undefined) return pino({ name: 'strainward' }, pino.destination(fd));
+  const write = o.write ?? ((line: string) => { (fd === 2 ? process.stderr : process.stdout).write(line); });
+  let pending = '';
+  const stream = new Writable({
+    write(chunk: Buffer, _encoding, done) {
+      pending += chunk.toString('utf8');
+      const lines = pending.split('\n');
+      pending = lines.pop() ?? '';
+      for (const l of lines) {
+        const text = readable ? formatLogChunk(l) : l;
+        if (text !== '') write(`${text}\n`);
+      }
+      done();
+    },
+  });
+  return pino({ name: 'strainward' }, stream);
+}

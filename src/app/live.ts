@@ -6,7 +6,7 @@ import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
 import { MqttDeadLetterSink } from '../adapters/deadletter/mqtt-sink.js';
 import { NdjsonFileDeadLetterSink } from '../adapters/deadletter/ndjson-file-sink.js';
 import { connectMqtt, type InboundMessage, type MqttConnection } from '../adapters/mqtt/connection.js';
-import { ackTopic, parseAckPayload } from '../alarms/index.js';
+import { ackSubscription, ackTopic, ackUserOfTopic, ackVerdictTopic, parseAckPayload } from '../alarms/index.js';
 import type { ComponentFault } from '../alarms/types.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
@@ -74,7 +74,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     })
     : null;
   const alarmsCfg = structure.alarms;
-  const commandTopic = alarmsCfg === null ? null : ackTopic(alarmsCfg, structure.structureId);
+  const commandTopic = alarmsCfg === null ? null : ackSubscription(alarmsCfg, structure.structureId);
+  const commandUser = (topic: string): string | null => (alarmsCfg === null ? null : ackUserOfTopic(alarmsCfg, structure.structureId, topic));
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
@@ -133,7 +134,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const afterCapture = (m: InboundMessage): InboundMessage => (capture === null ? m
     : { ...m, ack: () => { capture.durable().then(() => m.ack(), () => {}); } });
   const inbound$ = connectable(connection.messages$.pipe(map(afterCapture)), { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
-  const isCommand = (m: InboundMessage): boolean => m.raw.topic === commandTopic;
+  const isCommand = (m: InboundMessage): boolean => commandUser(m.raw.topic) !== null;
   const inputs$ = merge(
     inbound$.pipe(filter((m) => !isCommand(m)), map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
     interval(rc.tick_ms, deps.scheduler ?? asyncScheduler).pipe(map((): PipelineInput<PipelineMessage> => ({ kind: 'tick', nowMs: deps.now() }))),
@@ -146,7 +147,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   })), { connector: () => new Subject<FrameOutput<PipelineMessage>>(), resetOnDisconnect: false });
   const takeCommand = (raw: RawMessage): AckEvent => {
     capture?.append(raw); // in the capture too, so a replay reproduces the acknowledgements
-    return parseAckPayload(raw.payload, raw.arrivalMs);
+    return parseAckPayload(raw.payload, raw.arrivalMs, commandUser(raw.topic) ?? '');
   };
   const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, merge(inbound$.pipe(
     filter(isCommand),
@@ -160,6 +161,12 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   ), pageCommands$.pipe(map(takeCommand))), {
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: outbound.publish, ...alarmFiles,
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
+    // Every command gets an answer on its user's verdict topic, refusals included (also in the log).
+    onAckVerdict: (v) => {
+      if (v.verdict === 'refused') deps.log('ack_refused', { alarmId: v.alarm_id, user: v.user, code: v.code, reason: v.reason });
+      outbound.publish(ackVerdictTopic(alarmsCfg, structure.structureId, v.user), JSON.stringify(v), { qos: 1, retain: false })
+        .catch((err: unknown) => deps.log('ack_verdict_failed', { user: v.user, message: err instanceof Error ? err.message : String(err) }));
+    },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
     componentFaults$,
     onBatch: (batch, records) => {

@@ -96,7 +96,13 @@ describe('live job with the spool disk full', () => {
     await published;
     await until('every result stored', () => (live.status().frames as { results: number }).results >= 2 * scans && (live.status().mqtt as { heldAcks: number }).heldAcks === 0, 60_000);
     await until('the spool alarm cleared', async () => (await spoolAlarms()).some((l) => l.message?.transition === 'cleared'), 30_000);
-    expect(logged.filter((l) => l.event === 'spool_writable')).toHaveLength(1);
+    // Each failure is followed by its recovery (at the edge of the disk while the spool drains, one more
+    // failure and recovery may come: seen in 1 of 3 runs on the project machine), and it ends writable.
+    const writable = logged.filter((l) => l.event === 'spool_writable').length;
+    expect(writable).toBeGreaterThanOrEqual(1);
+    expect(writable).toBeLessThanOrEqual(2);
+    expect(writable).toBe(logged.filter((l) => l.event === 'spool_unwritable').length);
+    expect(db().spoolWriteFailure).toBeNull();
     await live.stop();
     await pub.endAsync();
     let s = { values: [] as number[], timestamps: [] as number[] };

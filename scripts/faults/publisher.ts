@@ -72,13 +72,15 @@ export class ScanPublisher {
   /** The next seq to be used (the start of a scenario's range). */
   get nextSeq(): number { return this.seq + 1; }
 
-  /** Every publish acknowledged by the broker. */
-  async drained(timeoutMs = 120_000): Promise<void> {
+  /**
+   * Waits until the broker acknowledged every publish, at most `timeoutMs`; returns how many are
+   * still unconfirmed then. They are not counted as published (only broker-acknowledged scans are),
+   * so an unconfirmed publish can never hide a loss; the harness prints the figure.
+   */
+  async drained(timeoutMs = 30_000): Promise<number> {
     const deadline = Date.now() + timeoutMs;
-    while (this.pending > 0) {
-      if (Date.now() > deadline) throw new Error(`${this.pending} publishes still unacknowledged by the broker`);
-      await new Promise((r) => setTimeout(r, 50));
-    }
+    while (this.pending > 0 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 50));
+    return this.pending;
   }
 
   async close(): Promise<void> {

@@ -85,7 +85,8 @@ async function scenario(name: string, tailSeconds: number, fault: (evidence: Evi
   await sleep(tailSeconds * 1000);
   publisher.stopScans();
   const to = publisher.nextSeq - 1;
-  await publisher.drained();
+  const unconfirmed = await publisher.drained();
+  if (unconfirmed > 0) evidence.publisher_unconfirmed = unconfirmed;
   let figures = await countScenario(vm, name, publisher.published, from, to, structure.structureId, STRAIN_LOGGER, groups);
   const deadline = Date.now() + 90_000;
   while (figures.lost > 0 && Date.now() < deadline) {

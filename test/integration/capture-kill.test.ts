@@ -32,7 +32,7 @@ describe('strainward run killed with SIGKILL', () => {
     await rm(dir, { recursive: true, force: true });
   });
 
-  it('every acknowledged scan, and every scan with a result on disk, is in the capture', async () => {
+  it('every acknowledged scan is in the capture, and every scan with a result on disk is in it or still with the broker', async () => {
     const runtime = await writeRuntimeFile(dir, broker.url, CLIENT_ID, [
       ...filesUnder(dir),
       `capture: { dir: ${join(dir, 'capture')} }`,
@@ -91,6 +91,9 @@ describe('strainward run killed with SIGKILL', () => {
     expect(held.size).toBeGreaterThanOrEqual(300); // and the 300 sent after it are with the broker
     expect(acknowledged.filter((s) => !captured.has(s))).toEqual([]);
     expect(stored.length).toBeGreaterThan(200);
-    expect(stored.filter((s) => !captured.has(s))).toEqual([]);
+    // A result may reach its file before the capture's batch is synced (the two writes run side by
+    // side); such a scan was not acknowledged, so the broker still holds it and the next start
+    // captures it. None is in neither.
+    expect(stored.filter((s) => !captured.has(s) && !held.has(s))).toEqual([]);
   }, 60_000);
 });

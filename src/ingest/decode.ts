@@ -2,7 +2,7 @@ import type { ChannelDirectory } from '../model/channel-directory.js';
 import type { LoggerFrame, RawMessage } from '../model/raw-message.js';
 import type { DeadLetter, Rejection } from '../model/rejection.js';
 import { toDeadLetter } from './dead-letter-record.js';
-import { jsonShapeProblem, MAX_JSON_DEPTH } from './json-guard.js';
+import { jsonShapeProblem, keyTokensAndDepth, MAX_JSON_DEPTH, parsedKeyCount } from './json-guard.js';
 import { parseLoggerTimestamp, schemaFor } from './payload-schema.js';
 import { parseTopic, type TopicPattern } from './topic.js';
 
@@ -159,6 +159,9 @@ function parseJson(payload: Uint8Array): { ok: true; value: unknown } | { ok: fa
   }
   // Only objects can hide a duplicate key or nest; a scan is an object, so this runs on every good message.
   if (typeof value === 'object' && value !== null) {
+    // Counted first without allocating (this runs on every scan); a refusal is then named.
+    const { keys, depth } = keyTokensAndDepth(text);
+    if (depth <= MAX_JSON_DEPTH && keys === parsedKeyCount(value)) return { ok: true, value };
     const problem = jsonShapeProblem(text);
     if (problem?.kind === 'duplicate_key') {
       const where = problem.path === '' ? problem.key : `${problem.path}.${problem.key}`;

@@ -1,7 +1,7 @@
 /**
  * Checks on a payload's JSON text that JSON.parse does not make: it takes the last of duplicate
  * keys silently (so `{"values":{"ch01":1,"ch01":900}}` would keep 900 without a word) and has no
- * depth limit. Pure, one pass over the text, no allocation but a small stack of key sets.
+ * depth limit. Pure. Every message gets the allocation-free count; the naming pass only a refusal.
  */
 
 /** Deepest nesting a logger message needs is 2 (`{"values":{...}}`); anything far deeper is refused. */
@@ -17,6 +17,56 @@ const OPEN_ARRAY = 0x5b;
 const CLOSE_ARRAY = 0x5d;
 const COLON = 0x3a;
 const COMMA = 0x2c;
+
+/**
+ * The cheap check for every message, allocation-free: the object keys written in `text` (strings
+ * followed by `:`) and its deepest nesting. JSON.parse keeps one key of each duplicate set, so a
+ * parsed value with fewer keys than the text wrote has a duplicate; only then is the allocating
+ * `jsonShapeProblem` run to name it. Call it on text that JSON.parse accepted.
+ */
+export function keyTokensAndDepth(text: string): { keys: number; depth: number } {
+  let keys = 0;
+  let depth = 0;
+  let maxDepth = 0;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (c === QUOTE) {
+      // Jump to the closing quote: one not preceded by an odd run of backslashes.
+      let j = text.indexOf('"', i + 1);
+      while (j !== -1) {
+        let b = 0;
+        while (text.charCodeAt(j - 1 - b) === BACKSLASH) b++;
+        if (b % 2 === 0) break;
+        j = text.indexOf('"', j + 1);
+      }
+      if (j === -1) break;
+      i = j;
+    } else if (c === COLON) {
+      // A key is the string before a colon (whitespace may sit between them).
+      let k = i - 1;
+      while (k >= 0 && (text.charCodeAt(k) === 0x20 || text.charCodeAt(k) === 0x09 || text.charCodeAt(k) === 0x0a || text.charCodeAt(k) === 0x0d)) k--;
+      if (k >= 0 && text.charCodeAt(k) === QUOTE) keys++;
+    } else if (c === OPEN_OBJECT || c === OPEN_ARRAY) {
+      if (++depth > maxDepth) maxDepth = depth;
+    } else if (c === CLOSE_OBJECT || c === CLOSE_ARRAY) depth--;
+  }
+  return { keys, depth: maxDepth };
+}
+
+/** Own keys of every object in a parsed JSON value (for-in: no array per object). */
+export function parsedKeyCount(value: unknown): number {
+  if (typeof value !== 'object' || value === null) return 0;
+  let n = 0;
+  if (Array.isArray(value)) {
+    for (const v of value) n += parsedKeyCount(v);
+    return n;
+  }
+  for (const k in value) {
+    n++;
+    n += parsedKeyCount((value as Record<string, unknown>)[k]);
+  }
+  return n;
+}
 
 /**
  * The first duplicate object key or excessive nesting in `text`, or null. Call it on text that

@@ -9,7 +9,7 @@ import { from, lastValueFrom, toArray } from 'rxjs';
 import { describe, expect, it } from 'vitest';
 import { decodeMessage, MAX_PAYLOAD_BYTES } from '../../src/ingest/decode.js';
 import { compileTopicPattern } from '../../src/ingest/topic.js';
-import { jsonShapeProblem } from '../../src/ingest/json-guard.js';
+import { jsonShapeProblem, keyTokensAndDepth, parsedKeyCount } from '../../src/ingest/json-guard.js';
 import type { DeadLetter } from '../../src/model/rejection.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../../src/pipeline/pipeline.js';
@@ -102,6 +102,15 @@ describe('fuzzing (fast-check)', () => {
       // The values object comes first in the text, so its duplicate is the one reported.
       if (found?.kind === 'duplicate_key') expect(found.path).toBe(dupInner ? 'values' : '');
     }), { numRuns: 500 });
+  });
+
+  it('the allocation-free count finds as many keys in the text as JSON.parse keeps when none repeats', () => {
+    fc.assert(fc.property(fc.json({ maxDepth: 5 }), fc.boolean(), (text, spaced) => {
+      const t = spaced ? JSON.stringify(JSON.parse(text), null, 2) : text;
+      expect(keyTokensAndDepth(t).keys).toBe(parsedKeyCount(JSON.parse(t)));
+    }), { numRuns: 1000 });
+    expect(keyTokensAndDepth('{"a":{"b":[1,{"c":2}]}}')).toEqual({ keys: 3, depth: 4 });
+    expect(keyTokensAndDepth('{"a":1,"a":2}').keys).toBe(2);
   });
 
   it('the decoder never throws and always answers a frame or a dead letter with a reason', () => {

@@ -35,19 +35,23 @@ export function ackVerdictTopic(cfg: AlarmsConfig, structureId: string, user: st
 }
 
 /**
- * The user a topic names if it is an acknowledgement command topic of this structure, else null.
- * Pure; the topic's levels are compared literally (no wildcards in a received topic).
+ * A matcher for one structure's command topics, prepared once: it returns the user a topic names
+ * if it is a command topic (the text before and after `{user}` equal, one whole level between),
+ * else null. It runs on every inbound message, so a scan topic is turned away by a prefix test
+ * without splitting or allocating. Pure.
  */
+export function ackUserMatcher(cfg: AlarmsConfig, structureId: string): (topic: string) => string | null {
+  const [before, after] = fill(cfg.acknowledgement.command_topic, structureId, '\u0000').split('\u0000');
+  return (topic) => {
+    if (topic.length <= before.length + after.length || !topic.startsWith(before) || !topic.endsWith(after)) return null;
+    const user = topic.slice(before.length, topic.length - after.length);
+    return !user.includes('/') && AckUserSchema.safeParse(user).success ? user : null;
+  };
+}
+
+/** The user a topic names if it is an acknowledgement command topic of this structure, else null. */
 export function ackUserOfTopic(cfg: AlarmsConfig, structureId: string, topic: string): string | null {
-  const levels = fill(cfg.acknowledgement.command_topic, structureId, '\u0000').split('/');
-  const got = topic.split('/');
-  if (got.length !== levels.length) return null;
-  let user: string | null = null;
-  for (let i = 0; i < levels.length; i++) {
-    if (levels[i] === '\u0000') user = got[i];
-    else if (levels[i] !== got[i]) return null;
-  }
-  return user !== null && AckUserSchema.safeParse(user).success ? user : null;
+  return ackUserMatcher(cfg, structureId)(topic);
 }
 
 /** The processor's answer to one command, published to the user's verdict topic (QoS 1, not retained). */

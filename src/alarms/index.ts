@@ -4,7 +4,7 @@ export * from './types.js';
 export { createAlarmEngine, type AlarmEngine, type StepOutput } from './engine/engine.js';
 export { alarms, alarmBatches, alarmTicks, type AlarmBatch, type AlarmOperatorOptions } from './operator.js';
 export {
-  AckCommandSchema, AckUserSchema, ackTopic, ackSubscription, ackVerdictTopic, ackUserOfTopic, parseAckPayload, buildAckCommand, publishAck,
+  AckCommandSchema, AckUserSchema, ackTopic, ackSubscription, ackVerdictTopic, ackUserOfTopic, ackUserMatcher, parseAckPayload, buildAckCommand, publishAck,
   type AckCommand, type AckVerdict,
 } from './ack.js';
 export { mosquittoAcl, type BrokerAclOptions } from './acl.js';

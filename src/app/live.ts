@@ -6,7 +6,7 @@ import type { DeadLetterSink } from '../adapters/deadletter/sink.js';
 import { MqttDeadLetterSink } from '../adapters/deadletter/mqtt-sink.js';
 import { NdjsonFileDeadLetterSink } from '../adapters/deadletter/ndjson-file-sink.js';
 import { connectMqtt, type InboundMessage, type MqttConnection } from '../adapters/mqtt/connection.js';
-import { ackSubscription, ackTopic, ackUserOfTopic, ackVerdictTopic, parseAckPayload } from '../alarms/index.js';
+import { ackSubscription, ackTopic, ackUserMatcher, ackVerdictTopic, parseAckPayload } from '../alarms/index.js';
 import type { ComponentFault } from '../alarms/types.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
@@ -75,7 +75,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     : null;
   const alarmsCfg = structure.alarms;
   const commandTopic = alarmsCfg === null ? null : ackSubscription(alarmsCfg, structure.structureId);
-  const commandUser = (topic: string): string | null => (alarmsCfg === null ? null : ackUserOfTopic(alarmsCfg, structure.structureId, topic));
+  const commandUser = alarmsCfg === null ? () => null : ackUserMatcher(alarmsCfg, structure.structureId);
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });

@@ -1,5 +1,5 @@
 import { filter, lastValueFrom, map, share, tap, type Observable } from 'rxjs';
-import { ackUserOfTopic, parseAckPayload } from '../alarms/index.js';
+import { ackUserMatcher, parseAckPayload } from '../alarms/index.js';
 import type { AlarmTransition } from '../alarms/index.js';
 import { alarmLookups } from './lookups.js';
 import { attachAlarms, type AckEvent } from './alarms-wiring.js';
@@ -64,7 +64,7 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   let messages = 0;
   let writeErrors = 0;
   const alarmsCfg = o.structure.alarms;
-  const commandUser = (topic: string): string | null => (alarmsCfg ? ackUserOfTopic(alarmsCfg, o.structure.structureId, topic) : null);
+  const commandUser = alarmsCfg ? ackUserMatcher(alarmsCfg, o.structure.structureId) : () => null;
   const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && commandUser(i.message.raw.topic) !== null;
   // One pass over the capture, split like live: acknowledgement commands to the alarms, the rest to the pipeline.
   const source$ = replaySource(o.messages, {

@@ -125,3 +125,18 @@ describe('webhook authentication and secrets (local HTTP receiver)', () => {
     expect(String(error)).not.toContain(SECRET);
   });
 });
+
+describe('webhook authentication without its secret', () => {
+  it('with no header source (a replay, whose deliveries are recorded) it goes out without one and never throws; a live source lacking the secret sends nothing and says why', async () => {
+    const rx = await startReceiver();
+    stops.push(rx.stop);
+    const d = await deliveryTo(rx.url, { auth: { secret_env: 'SW_HOOK_NOT_LOADED' } });
+    const recorded = await createWebhookDelivery({ now: () => 0 })(d);
+    expect(recorded.status).toBe('delivered');
+    expect(rx.received[0].headers.authorization).toBeUndefined();
+    const missing = await createWebhookDelivery({ now: () => 0, authHeader: () => undefined })(d);
+    expect(missing).toMatchObject({ status: 'failed', attemptCount: 1 });
+    expect(missing.attempts[0].error).toBe('not sent: the auth secret of this webhook was not loaded');
+    expect(rx.received).toHaveLength(1);
+  });
+});

@@ -1,8 +1,7 @@
-import { spawn, type ChildProcess } from 'node:child_process';
 import { writeFile } from 'node:fs/promises';
-import { connect } from 'node:net';
 import { join } from 'node:path';
 import { userInfo } from 'node:os';
+import { startMosquittoWithConfig, type MosquittoServer } from '../../test/support/servers.js';
 
 /**
  * A Mosquitto with persistence on, restartable on the same port and data, with the limits the
@@ -14,14 +13,6 @@ export interface PersistentBroker {
   /** Orderly stop (SIGTERM: the broker saves its sessions and queues), then start again. */
   restart(pauseMs: number): Promise<void>;
   stop(): Promise<void>;
-}
-
-async function reachable(port: number): Promise<boolean> {
-  return new Promise((resolve) => {
-    const s = connect({ host: '127.0.0.1', port });
-    s.once('connect', () => { s.destroy(); resolve(true); });
-    s.once('error', () => resolve(false));
-  });
 }
 
 export async function startPersistentBroker(dir: string, port: number, maxInflight: number): Promise<PersistentBroker> {
@@ -38,24 +29,14 @@ export async function startPersistentBroker(dir: string, port: number, maxInflig
     'log_dest none',
     `user ${userInfo().username}`,
   ].join('\n') + '\n');
-  let child: ChildProcess | null = null;
-  const start = async () => {
-    child = spawn('/usr/sbin/mosquitto', ['-c', conf], { stdio: 'ignore' });
-    const deadline = Date.now() + 15_000;
-    while (!(await reachable(port))) {
-      if (Date.now() > deadline) throw new Error('mosquitto did not start');
-      await new Promise((r) => setTimeout(r, 50));
-    }
-  };
-  const stop = async () => {
-    const c = child;
-    if (c === null || c.exitCode !== null) return;
-    await new Promise<void>((resolve) => { c.once('exit', () => resolve()); c.kill('SIGTERM'); });
-    child = null;
-  };
-  await start();
+  let server: MosquittoServer | null = await startMosquittoWithConfig(conf, port);
+  const stop = async () => { await server?.stop(); server = null; };
   return {
     url: `mqtt://127.0.0.1:${port}`, port, stop,
-    restart: async (pauseMs) => { await stop(); await new Promise((r) => setTimeout(r, pauseMs)); await start(); },
+    restart: async (pauseMs) => {
+      await stop();
+      await new Promise((r) => setTimeout(r, pauseMs));
+      server = await startMosquittoWithConfig(conf, port);
+    },
   };
 }

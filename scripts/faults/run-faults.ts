@@ -17,6 +17,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { loadStructureFile } from '../../src/config/load.js';
 import { freePort, startVictoriaMetrics, type VictoriaMetricsServer } from '../../test/support/servers.js';
+import { mountTmpfs } from '../../test/support/tmpfs.js';
 import { startPersistentBroker } from './broker.js';
 import { countScenario, type ScenarioFigures } from './count.js';
 import { ProcessorProcess } from './processor.js';
@@ -28,10 +29,9 @@ const SPOOL_TMPFS = '8m';
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 const root = await mkdtemp(join(tmpdir(), 'sw-faults-'));
-const spoolMount = join(root, 'spool-disk');
-await mkdir(spoolMount);
-execFileSync('mount', ['-t', 'tmpfs', '-o', `size=${SPOOL_TMPFS}`, 'tmpfs', spoolMount]);
-const cleanups: Array<() => Promise<unknown>> = [async () => { execFileSync('umount', ['-l', spoolMount]); }];
+const spoolDisk = await mountTmpfs('sw-faults-spool-', SPOOL_TMPFS);
+const spoolMount = spoolDisk.path;
+const cleanups: Array<() => Promise<unknown>> = [() => spoolDisk.remove()];
 async function cleanUp(): Promise<void> {
   while (cleanups.length > 0) await cleanups.pop()!().catch((e: unknown) => console.error('cleanup:', e));
   await rm(root, { recursive: true, force: true });

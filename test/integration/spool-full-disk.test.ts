@@ -4,7 +4,6 @@
  * data), the spool on a 256 KiB tmpfs mounted here (the tests run as root, as CI does). Under the
  * `block` policy nothing is lost; the crews hear of it as an instrument-health alarm.
  */
-import { execFileSync } from 'node:child_process';
 import { mkdtemp, readFile, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -15,17 +14,18 @@ import { loadStructureFile } from '../../src/config/load.js';
 import { parseRuntimeConfig } from '../../src/config/load-runtime.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { startMosquitto, startVictoriaMetrics, type VictoriaMetricsServer } from '../support/servers.js';
+import { mountTmpfs, type Tmpfs } from '../support/tmpfs.js';
 
 const servers: Array<{ stop(): Promise<void> }> = [];
+let disk: Tmpfs;
 let mountPoint: string;
 beforeAll(async () => {
-  mountPoint = await mkdtemp(join(tmpdir(), 'sw-spool-disk-'));
-  execFileSync('mount', ['-t', 'tmpfs', '-o', 'size=256k', 'tmpfs', mountPoint]);
+  disk = await mountTmpfs('sw-spool-disk-', '256k');
+  mountPoint = disk.path;
 });
 afterAll(async () => {
   for (const s of servers.reverse()) await s.stop();
-  try { execFileSync('umount', [mountPoint]); } catch { execFileSync('umount', ['-l', mountPoint]); } // -l: a failed test left files open
-  await rm(mountPoint, { recursive: true, force: true });
+  await disk.remove();
 });
 
 async function until(what: string, cond: () => boolean | Promise<boolean>, ms = 30_000): Promise<void> {

@@ -2,7 +2,6 @@
  * The capture's group commit (`durable()`), and the capture on a real full disk: a 256 KiB tmpfs
  * mounted here (the tests run as root, as CI does; a failed mount fails them).
  */
-import { execFileSync } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
 import { mkdtemp, readdir, rm, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -11,6 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readCapture } from '../../../src/adapters/capture/capture-reader.js';
 import { CaptureWriter } from '../../../src/adapters/capture/capture-writer.js';
 import type { RawMessage } from '../../../src/model/raw-message.js';
+import { mountTmpfs, type Tmpfs } from '../../support/tmpfs.js';
 
 const T0 = Date.UTC(2025, 2, 14, 9, 0, 0);
 /** Payloads of random bytes (base64 in the capture), so gzip cannot shrink them and the disk fills. */
@@ -22,15 +22,13 @@ async function all(it: AsyncIterable<RawMessage>): Promise<RawMessage[]> {
   return out;
 }
 
+let disk: Tmpfs;
 let mountPoint: string;
 beforeAll(async () => {
-  mountPoint = await mkdtemp(join(tmpdir(), 'sw-capture-tmpfs-'));
-  execFileSync('mount', ['-t', 'tmpfs', '-o', 'size=256k', 'tmpfs', mountPoint]);
+  disk = await mountTmpfs('sw-capture-tmpfs-', '256k');
+  mountPoint = disk.path;
 });
-afterAll(async () => {
-  execFileSync('umount', [mountPoint]);
-  await rm(mountPoint, { recursive: true, force: true });
-});
+afterAll(async () => { await disk.remove(); });
 
 describe('capture durable() (group commit)', () => {
   it('writes one gzip member for every caller within the delay, and resolves them once it is synced', async () => {

@@ -2,25 +2,23 @@
  * The spool on a real full disk: a 256 KiB tmpfs mounted for this file (the tests run as root, as
  * CI does; a failed mount fails the tests). Appends must be all or nothing.
  */
-import { execFileSync } from 'node:child_process';
-import { mkdtemp, readdir, readFile, rm, stat, writeFile } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { readdir, readFile, rm, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { Spool, SpoolWriteError } from '../../../src/adapters/spool/spool.js';
+import { drainAll } from './support.js';
+import { mountTmpfs, type Tmpfs } from '../../support/tmpfs.js';
 
+let disk: Tmpfs;
 let mountPoint: string;
 let dir: string;
 const opened: Spool[] = [];
 
 beforeAll(async () => {
-  mountPoint = await mkdtemp(join(tmpdir(), 'sw-spool-tmpfs-'));
-  execFileSync('mount', ['-t', 'tmpfs', '-o', 'size=256k', 'tmpfs', mountPoint]);
+  disk = await mountTmpfs('sw-spool-tmpfs-', '256k');
+  mountPoint = disk.path;
 });
-afterAll(async () => {
-  execFileSync('umount', [mountPoint]);
-  await rm(mountPoint, { recursive: true, force: true });
-});
+afterAll(async () => { await disk.remove(); });
 beforeEach(() => { dir = join(mountPoint, 'spool'); });
 afterEach(async () => {
   for (const s of opened.splice(0)) await s.close();
@@ -33,14 +31,6 @@ const line = (i: number): string => {
   return head + 'x'.repeat(1000 - head.length - 14) + ` ${String(i).padStart(13, '0')}`;
 };
 
-async function drainAll(spool: Spool): Promise<string[]> {
-  const out: string[] = [];
-  for (let seg = await spool.takeOldest(); seg !== null; seg = await spool.takeOldest()) {
-    out.push(...seg.lines);
-    await spool.remove(seg.id);
-  }
-  return out;
-}
 
 /** Appends batches of three lines until the disk refuses one; returns the lines stored and the error. */
 async function fillDisk(spool: Spool, from = 0): Promise<{ stored: string[]; error: unknown; next: number }> {

@@ -3,6 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { Spool, SpoolFullError, type SpoolStatus } from '../../../src/adapters/spool/spool.js';
+import { drainAll } from './support.js';
 
 let dir: string;
 /** Spools a test opened; closed after it, so no file handle is left to the garbage collector. */
@@ -24,14 +25,6 @@ async function openSpool(options: Parameters<typeof Spool.open>[0]): Promise<Spo
 /** `m v=000042`: 10 bytes, 11 with its newline, so byte counts below are exact. */
 const line = (i: number): string => `m v=${String(i).padStart(6, '0')}`;
 
-async function drainAll(spool: Spool): Promise<string[]> {
-  const out: string[] = [];
-  for (let seg = await spool.takeOldest(); seg !== null; seg = await spool.takeOldest()) {
-    out.push(...seg.lines);
-    await spool.remove(seg.id);
-  }
-  return out;
-}
 
 describe('Spool', () => {
   it('returns appended lines in order across segments and reports bytes and points', async () => {

@@ -106,12 +106,15 @@ export class FrameProcessor<M> {
   /** A decoded frame arrives. Returns the frames completed by it, in order per logger. */
   onFrame(frame: LoggerFrame, message: M, clockMs: number): ProcessedFrame<M>[] {
     this.counts.frames++;
-    const temperatures = this.takeTemperatures(frame);
-    // Instrument health of the readings first: this frame may judge an earlier one's excursion.
-    const screen = this.screen.screen(frame);
     const done: ProcessedFrame<M>[] = [];
-    // Release first whatever this moment frees (waits run out on the clock, new temperature), so a
-    // held frame is computed before any message that arrived after its deadline, live and in replay.
+    // Waits that ran out by this moment first, with what was known before this frame: a live tick
+    // between the deadline and this arrival would have released them so, and replay has no such
+    // tick, so this is what keeps live and replay identical.
+    this.releaseReady(clockMs, done);
+    const temperatures = this.takeTemperatures(frame);
+    // Instrument health of the readings next: this frame may judge an earlier one's excursion.
+    const screen = this.screen.screen(frame);
+    // Then whatever this frame frees (new temperature, an excursion judged).
     this.releaseReady(clockMs, done);
     const queue = this.held.get(frame.loggerId);
     const entry: HeldFrame<M> = { frame, message, temperatures, screen };

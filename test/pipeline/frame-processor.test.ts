@@ -75,3 +75,20 @@ describe('FrameProcessor', () => {
     expect(r.values.stress_axial_MPa).toBeUndefined();
   });
 });
+
+describe('FrameProcessor: a wait that ran out is decided the same with or without a tick before the next frame', () => {
+  // Live, the wall-clock tick may fall between a held frame's deadline and the next message; replay
+  // ticks on a grid of arrival times may not. Both must compute the held frame with what was known
+  // at its deadline, not with a temperature that arrived after it.
+  const run = (tickAt: number | null) => {
+    const p = new FrameProcessor<string>(structure({ mode: 'interpolate', max_age_s: 60, max_wait_s: 5 }));
+    const out = [...p.onFrame(frame('th', 0, { t: 10 }), 'th0', 0), ...p.onFrame(frame('lg', 1000, { c1: 100 }), 'lg1', 1000)];
+    if (tickAt !== null) out.push(...p.onTick(tickAt));
+    out.push(...p.onFrame(frame('th', 7000, { t: 24 }), 'th1', 7000)); // after lg1's deadline (1000 + 5000)
+    return out.map((f) => `${f.message}:${f.results.map((r) => `${r.values.temperature_degC}`).join(',')}`);
+  };
+  it('same frames, same order, same temperature', () => {
+    expect(run(6500)).toEqual(['th0:', 'lg1:10', 'th1:']);
+    expect(run(null)).toEqual(run(6500));
+  });
+});

@@ -19,7 +19,7 @@ export function runCommand(): Command {
     .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON) naming the structure file')
     .option('--status-every <s>', 'log a status line every N seconds (0: never)', '60')
     .option('--log-format <format>', 'auto (readable lines on a terminal, JSON otherwise), json or lines', 'auto')
-    .addHelpText('after', '\nExample:\n  strainward run -c config/brannock-mere.run.yaml --status-every 30\n')
+    .addHelpText('after', '\nExample:\n  strainward run -c config/brannock-mere.run.yaml --status-every 30')
     .action(async (raw: unknown) => {
       const o = parseOptions(RunOptionsSchema, raw);
       const log = makeLogger(o.logFormat === 'auto' ? {} : { readable: o.logFormat === 'lines' });

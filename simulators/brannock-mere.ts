@@ -2,6 +2,7 @@
  * Simulator of the Brannock Mere Crossing's edge loggers (composition root: the only place that
  * reads the wall clock). Usage: npx tsx simulators/brannock-mere.ts --help
  */
+import { mkdir } from 'node:fs/promises';
 import { join } from 'node:path';
 import { setTimeout as sleep } from 'node:timers/promises';
 import { Command } from 'commander';
@@ -11,6 +12,7 @@ import { defaultScenario } from './default-scenario.js';
 import { captureSink, messagesFileSink, mqttSink, runSimulation, type ScanSink } from './outputs.js';
 import { createSimulation } from './run.js';
 import { describeRun, episodeSink, episodesOf } from './announce.js';
+import { CAUTION, wrap } from '../src/cli/help-text.js';
 import { CliOptionsSchema } from './cli-options.js';
 import { FAULT_KINDS } from './scenario.js';
 
@@ -27,10 +29,12 @@ const program = new Command('brannock-mere')
   .option('--heavy-at-s <list>', 'seconds from the start at which heavy vehicles enter, comma list, or none (default: one at mid-run)')
   .option('--fault-at <list>', 'when faults happen: comma list of kind@start_s[-end_s], e.g. dropout@240-270,silent@480 (default: fractions of the run)')
   .option('--no-noise', 'exact readings (no noise, no quantisation)')
-  .option('--broker <url>', 'publish to this MQTT broker (QoS 1), e.g. mqtt://127.0.0.1:1883')
+  .option('--broker <url>', 'publish to this MQTT broker (QoS 1), e.g. mqtt://127.0.0.1:1883; loopback only unless --allow-remote-broker')
+  .option('--allow-remote-broker', 'allow a --broker beyond this machine (never one that serves a real structure: simulated readings could fake or hide its alarms)', false)
   .option('--capture-dir <dir>', 'write the messages into a capture directory')
   .option('--messages', 'write messages.ndjson into --out as well', false)
-  .option('--out <dir>', 'directory for truth.ndjson, fault-log.json, scenario.json', 'var/sim-out');
+  .option('--out <dir>', 'directory for truth.ndjson, fault-log.json, scenario.json', 'var/sim-out')
+  .addHelpText('after', `\nExample:\n  npx tsx simulators/brannock-mere.ts --broker mqtt://127.0.0.1:1883 --start now --speed 1 --duration-s 300\n\n${wrap(CAUTION)}`);
 
 async function main(): Promise<number> {
   program.parse();
@@ -47,6 +51,7 @@ async function main(): Promise<number> {
   });
   const sim = createSimulation(structure, scn);
   console.log(describeRun(scn, sim.faultLog, o.broker ?? o.captureDir ?? join(o.out, 'messages.ndjson'), o.speed, structure.structureId));
+  await mkdir(o.out, { recursive: true }); // before the messages file's stream opens in it
   const sinks: ScanSink[] = [];
   if (o.speed > 0) sinks.push(episodeSink(scn, episodesOf(scn, sim.faultLog), (line) => console.log(line)));
   if (o.broker) sinks.push(await mqttSink(o.broker));

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { isLoopbackHost } from '../src/adapters/http/page-access.js';
 import type { FaultTimes } from './default-scenario.js';
 import { FAULT_KINDS, type FaultKind } from './scenario.js';
 
@@ -57,9 +58,26 @@ export const CliOptionsSchema = z.strictObject({
   faultAt: FaultTimesSchema.optional(),
   noise: z.boolean(),
   broker: z.url({ protocol: /^mqtts?$|^wss?$/ }).optional(),
+  /** Publishing to a broker beyond this machine needs saying so: see `remoteBrokerProblem`. */
+  allowRemoteBroker: z.boolean().default(false),
   captureDir: z.string().min(1).optional(),
   messages: z.boolean(),
   out: z.string().min(1),
+}).superRefine((o, ctx) => {
+  const problem = o.broker === undefined ? null : remoteBrokerProblem(o.broker, o.allowRemoteBroker);
+  if (problem !== null) ctx.addIssue({ code: 'custom', path: ['broker'], message: problem });
 });
 export type CliOptions = z.infer<typeof CliOptionsSchema>;
 
+
+/**
+ * Simulated readings published on a real structure's broker could fake or hide its alarms, so the
+ * simulator publishes to loopback (127.0.0.0/8, ::1, localhost) only, unless `--allow-remote-broker`
+ * says otherwise. Null when allowed; the refusal otherwise.
+ */
+export function remoteBrokerProblem(brokerUrl: string, allowRemote: boolean): string | null {
+  const host = new URL(brokerUrl).hostname;
+  if (allowRemote || isLoopbackHost(host)) return null;
+  return `${brokerUrl} is not on this machine (loopback): simulated readings there could fake or hide a real structure's alarms; `
+    + 'use a broker on 127.0.0.1, or give --allow-remote-broker if this broker serves no real structure';
+}

@@ -132,7 +132,8 @@ function* runScans(structure: CompiledStructure, scn: Scenario, plan: RunPlan, l
       }
       values[ch.id] = value;
     }
-    const payload = JSON.stringify({ ts: loggerMs, seq, values });
+    // `synthetic`: the processor warns about simulated readings (once per logger) and lists them in its presence.
+    const payload = JSON.stringify({ ts: loggerMs, seq, values, synthetic: true });
     yield { loggerId: st.plan.id, topic: st.topic, trueMs, loggerMs, arrivalMs: trueMs + scn.latency_ms, seq, values, payload, truth };
   }
 }

@@ -20,6 +20,8 @@ export * from './schema-routing.js';
  */
 export const AlarmsConfigSchema = z
   .strictObject({
+    /** `false` or absent: alarms on (the key exists so `AlarmsSectionSchema` can tell the two forms apart). */
+    disabled: z.literal(false).optional(),
     /** Level names, least severe first. The names are data. */
     levels: z.array(z.string().min(1)).min(1),
     rules: z.array(StructuralRuleSchema).default([]),
@@ -82,6 +84,20 @@ export const AlarmsConfigSchema = z
       );
     });
   });
+
+/**
+ * `alarms: { disabled: true }`: a structure watched without any alarm, said on purpose. The live
+ * job refuses a structure with no `alarms` section at all, since it would raise nothing, health
+ * alarms included, and say nothing; disabled, it starts and warns (log, presence, `status`).
+ */
+export const AlarmsDisabledSchema = z.strictObject({ disabled: z.literal(true) }, {
+  error: (issue) => (issue.code === 'unrecognized_keys'
+    ? `disabled: true switches every alarm off and takes no other key (found ${issue.keys.map((k) => `"${k}"`).join(', ')}): remove disabled, or the rest`
+    : undefined),
+});
+
+/** The structure file's `alarms` section: the configuration, or explicitly disabled. */
+export const AlarmsSectionSchema = z.discriminatedUnion('disabled', [AlarmsDisabledSchema, AlarmsConfigSchema]);
 
 /** The validated `alarms` configuration (defaults filled in). */
 export type AlarmsConfig = z.infer<typeof AlarmsConfigSchema>;

@@ -27,6 +27,8 @@ import { loadWebhookAuth } from './webhook-auth.js';
 import { watchComponents } from './component-watch.js';
 import { deadLetterLog } from './dead-letter-log.js';
 import { transitionLogLines } from './alarm-transition-log.js';
+import { ALARMS_DISABLED, requireAlarmsDecision } from './alarms-decision.js';
+import { SyntheticLoggers } from './synthetic-loggers.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -55,6 +57,8 @@ export interface LiveProcessor {
  */
 export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<LiveProcessor> {
   const { runtime: rc, structure, baseDir } = loaded;
+  requireAlarmsDecision(loaded); // before anything is opened: no alarms section, no start
+  if (structure.alarmsDisabled) (deps.warn ?? deps.log)('alarms_disabled', { reason: ALARMS_DISABLED });
   const topicPattern = compileTopicPattern(rc.mqtt.topic_pattern);
   // The processor's own parts failing (spool, capture): logged, and instrument-health alarms.
   const componentFaults$ = new Subject<ComponentFault>();
@@ -91,7 +95,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     brokerUrl: rc.mqtt.url, database: influx === null ? undefined : () => influx.status(), every_ms: 5_000, scheduler: deps.scheduler,
   });
   const statusTopic = presenceTopic(rc.presence.topic, structure.structureId, rc.mqtt.client_id);
-  const who = { processor: rc.mqtt.client_id, structure: structure.structureId, every_s: rc.presence.every_s };
+  const who = { processor: rc.mqtt.client_id, structure: structure.structureId, every_s: rc.presence.every_s, alarms_disabled: structure.alarmsDisabled };
   const connection = await connectMqtt({
     ...brokerAccess(rc, baseDir), clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
@@ -177,6 +181,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   });
   page?.seedAlarms(alarmWiring?.visibleAlarms() ?? []);
   page?.attach(processed$);
+  const synthetic = new SyntheticLoggers(warn);
+  processed$.pipe(filter((o) => o.kind === 'received')).subscribe((o) => synthetic.note(o.frame));
   // One line per 10 s while writes fail (a full spool fails every frame), with the count.
   const writeFailures = failureSummary(deps.log, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
@@ -197,6 +203,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     lineFiles: lineFiles?.status() ?? null,
     mqtt: connection.stats(),
     alarms: alarmWiring?.counts() ?? null,
+    alarmsDisabled: structure.alarmsDisabled,
+    syntheticLoggers: synthetic.list(),
   });
   const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();
@@ -204,6 +212,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       frames: processor.counts.frames, results: processor.counts.results, rejected_messages: decodeCounts.rejected,
       held_acks: connection.stats().heldAcks, database_reachable: db ? db.dbReachable : null, spool_fill_ratio: db ? db.spoolFillRatio : null,
       spool_limit_bytes: db ? db.spoolLimitBytes : null, spool_disk_free_bytes: db ? db.spoolDiskFreeBytes : null,
+      synthetic_loggers: synthetic.list(),
     };
   }, deps.now, (err) => deps.log('presence_failed', { message: err instanceof Error ? err.message : String(err) }));
 

@@ -10,6 +10,7 @@
 import { z } from 'zod';
 import type { Publish } from '../adapters/mqtt/connection.js';
 import { problemsFromZod } from '../validation/issues.js';
+import { ALARMS_DISABLED } from './alarms-decision.js';
 
 export type PresenceState = 'online' | 'offline' | 'stopped';
 
@@ -22,6 +23,8 @@ export interface PresenceMessage {
   at: string;
   /** Seconds between `online` messages: a reader's staleness limit is twice this. */
   every_s: number;
+  /** The structure file says `alarms: { disabled: true }`: this processor raises no alarm at all. */
+  alarms_disabled?: boolean;
   /** Counters since start (online and stopped only). */
   frames?: number;
   results?: number;
@@ -32,7 +35,12 @@ export interface PresenceMessage {
   /** The spool's own limit and the free space of the disk it is on, bytes: the disk may fill first. */
   spool_limit_bytes?: number | null;
   spool_disk_free_bytes?: number | null;
+  /** Loggers seen sending `synthetic: true` (simulated) messages since start. */
+  synthetic_loggers?: string[];
 }
+
+/** Who publishes: the part of every presence message (the last will included) that never changes. */
+export type PresenceIdentity = Pick<PresenceMessage, 'processor' | 'structure' | 'every_s' | 'alarms_disabled'>;
 
 /** `{structure}` and `{client_id}` replaced; null when presence is switched off (empty pattern). */
 export function presenceTopic(pattern: string, structureId: string, clientId: string): string | null {
@@ -41,21 +49,21 @@ export function presenceTopic(pattern: string, structureId: string, clientId: st
 }
 
 /** Counters of the live job's status, in the presence message's names. */
-export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio' | 'spool_limit_bytes' | 'spool_disk_free_bytes'>;
+export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio' | 'spool_limit_bytes' | 'spool_disk_free_bytes' | 'synthetic_loggers'>;
 
 export interface Presence {
   /** Publishes `stopped` (retained) and ends the heartbeat. */
   stop(): Promise<void>;
 }
 
-export function presenceMessage(state: PresenceState, who: { processor: string; structure: string; every_s: number }, atMs: number, counters: PresenceCounters = {}): string {
+export function presenceMessage(state: PresenceState, who: PresenceIdentity, atMs: number, counters: PresenceCounters = {}): string {
   const message: PresenceMessage = { state, ...who, at: new Date(atMs).toISOString(), ...counters };
   return JSON.stringify(message);
 }
 
 /** Publishes `online` now and every `every_s`; a failed publish is reported, and the next one tries again. */
 export function startPresence(
-  publish: Publish, topic: string, who: { processor: string; structure: string; every_s: number },
+  publish: Publish, topic: string, who: PresenceIdentity,
   counters: () => PresenceCounters, now: () => number, onError: (err: unknown) => void,
 ): Presence {
   const send = (state: PresenceState) => publish(topic, presenceMessage(state, who, now(), counters()), { qos: 1, retain: true }).catch(onError);
@@ -76,6 +84,8 @@ export const PresenceMessageSchema = z.looseObject({
   structure: z.string().min(1),
   at: z.iso.datetime(),
   every_s: z.number().positive(),
+  alarms_disabled: z.boolean().optional(),
+  synthetic_loggers: z.array(z.string()).optional(),
 });
 
 /** One processor's standing, as `strainward status` reports it. */
@@ -88,6 +98,8 @@ export interface PresenceAssessment {
   healthy: boolean;
   /** Why not healthy, in words; empty when healthy. */
   reason: string;
+  /** What a healthy processor still does not do or cannot vouch for (alarms disabled, synthetic data). */
+  warnings: string[];
   /** The message itself when readable. */
   message: Record<string, unknown> | null;
 }
@@ -108,7 +120,7 @@ export function assessPresence(messages: ReadonlyArray<{ topic: string; payload:
     const r = PresenceMessageSchema.safeParse(json);
     if (!r.success) {
       const why = json === undefined ? 'not JSON' : problemsFromZod(r.error).map((p) => `${p.path}: ${p.reason}`).join('; ');
-      return { topic, processor: topic.split('/').pop() ?? topic, state: 'unreadable', age_s: Number.NaN, healthy: false, reason: `unreadable status (${why})`, message: null };
+      return { topic, processor: topic.split('/').pop() ?? topic, state: 'unreadable', age_s: Number.NaN, healthy: false, reason: `unreadable status (${why})`, warnings: [], message: null };
     }
     const m = r.data;
     const age_s = (nowMs - Date.parse(m.at)) / 1000;
@@ -116,6 +128,9 @@ export function assessPresence(messages: ReadonlyArray<{ topic: string; payload:
     const reason = m.state === 'offline' ? 'offline: the broker reported the connection lost (last will)'
       : m.state === 'stopped' ? 'stopped'
         : stale ? `no status for ${age_s.toFixed(1)} s (every ${m.every_s} s expected)` : '';
-    return { topic, processor: m.processor, state: m.state, age_s, healthy: reason === '', reason, message: m };
+    const warnings: string[] = [];
+    if (m.alarms_disabled === true) warnings.push(ALARMS_DISABLED);
+    if ((m.synthetic_loggers ?? []).length > 0) warnings.push(`SYNTHETIC (simulated) data from ${m.synthetic_loggers!.join(', ')}: results and alarms from it describe no real structure`);
+    return { topic, processor: m.processor, state: m.state, age_s, healthy: reason === '', reason, warnings, message: m };
   });
 }

@@ -1,11 +1,6 @@
 /** Text that every `--help` carries: the caution at the top level, an example under each command. */
 
-/** The caution, also in `calc`'s output, `calc --json`'s `notice` and the live job's start line. */
-export const CAUTION = [
-  'strainward supports and does not replace qualified engineering judgement.',
-  'Alarm limits are set by the responsible engineer under the local codes.',
-  'Missing data is itself an alarm, never an all-clear.',
-].join(' ');
+export { CAUTION } from '../model/caution.js';
 
 /** One example per command (the invented demo deck's files), shown under its options. */
 export const EXAMPLES: Record<string, string> = {

@@ -41,8 +41,10 @@ export interface CompiledStructure {
   groupsByLogger: Map<string, CompiledGroup[]>;
   temperatureSensors: Map<string, TemperatureChannel>;
   materials: Map<string, MaterialModel>;
-  /** The validated `alarms` section (defaults filled in); null when the file has none. */
+  /** The validated `alarms` section (defaults filled in); null when the file has none or disables it. */
   alarms: AlarmsConfig | null;
+  /** `alarms: { disabled: true }`: no alarms, on purpose (the live job starts, and warns). */
+  alarmsDisabled: boolean;
   /** The compiled `fatigue` section; null or absent when the file has none. */
   fatigue?: CompiledFatigue | null;
 }
@@ -114,7 +116,8 @@ export function compileStructure(input: unknown): CompileResult {
       groupsByLogger,
       temperatureSensors: sensorById,
       materials,
-      alarms: c.alarms ?? null,
+      alarms: c.alarms === undefined || c.alarms.disabled === true ? null : c.alarms,
+      alarmsDisabled: c.alarms?.disabled === true,
       fatigue: fatigue.fatigue,
     },
   };
@@ -125,7 +128,8 @@ function checkAlarmScopes(c: StructureConfig): ValidationProblem[] {
   const problems: ValidationProblem[] = [];
   const groupIds = new Set(c.groups.map((g) => g.id));
   const zones = new Set(c.groups.map((g) => g.zone));
-  c.alarms?.rules.forEach((rule, i) => {
+  const rules = c.alarms === undefined || c.alarms.disabled === true ? [] : c.alarms.rules;
+  rules.forEach((rule, i) => {
     const at = `alarms.rules[${i}].scope`;
     if (rule.scope.kind === 'zone' && !zones.has(rule.scope.zone)) {
       problems.push({ path: `${at}.zone`, reason: `unknown zone "${rule.scope.zone}" (zones: ${[...zones].join(', ')})` });

@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { IdSchema, MaterialSchema } from './material-schema.js';
 import { GaugeSchema, TemperatureSensorSchema } from './gauge-schema.js';
 import { GroupSchema } from './group-schema.js';
-import { AlarmsConfigSchema } from '../alarms/schema.js';
+import { AlarmsSectionSchema } from '../alarms/schema.js';
 import { FatigueConfigSchema } from './fatigue-schema.js';
 
 /**
@@ -30,8 +30,11 @@ export const StructureConfigSchema = z.strictObject({
   temperature_sensors: z.array(TemperatureSensorSchema).default([]),
   gauges: z.array(GaugeSchema).min(1),
   groups: z.array(GroupSchema).min(1),
-  /** Alarm rules, routing and health settings (the alarms module's schema; absent: no alarms). */
-  alarms: AlarmsConfigSchema.optional(),
+  /**
+   * Alarm rules, routing and health settings (the alarms module's schema), or `{ disabled: true }`.
+   * Absent: no alarms, and the live job refuses to start (`run` exit 3).
+   */
+  alarms: AlarmsSectionSchema.optional(),
   /** Fatigue details: rainflow counting and damage per detail (absent: no fatigue counting). */
   fatigue: FatigueConfigSchema.optional(),
 });

@@ -11,6 +11,7 @@ import { dirname, relative, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
 import { fileURLToPath } from 'node:url';
 import { Command } from 'commander';
+import { CAUTION, wrap } from '../cli/help-text.js';
 import pino from 'pino';
 import { z } from 'zod';
 import { startLive, type LiveProcessor } from '../app/live.js';
@@ -55,7 +56,8 @@ const program = new Command('npm start')
   .option('--day-s <s>', 'wall seconds per scenario day (temperature cycle, gauge drift)', '3600')
   .option('--heavy-at-s <list>', 'when heavy vehicles enter the deck, s from the start of each run', env('STRAINWARD_DEMO_HEAVY_AT_S') ?? '40,900')
   .option('--fault-at <list>', 'when faults happen, kind@start_s[-end_s] list',
-    'spikes@20-1700,debond@120,dropout@240-270,open_circuit@360-380,silent@480-540,clock_drift@1200');
+    'spikes@20-1700,debond@120,dropout@240-270,open_circuit@360-380,silent@480-540,clock_drift@1200')
+  .addHelpText('after', `\nExample:\n  npm start -- --mqtt-port 0 --page-port 0\n\n${wrap(CAUTION)}`);
 
 const say = (line: string) => { process.stdout.write(`${line}\n`); };
 const shown = (path: string) => relative(process.cwd(), path) || '.';

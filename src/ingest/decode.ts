@@ -96,17 +96,16 @@ export function decodeMessage(
   const values = new Map<string, number | null>();
   if ('values' in data) for (const channel in data.values) values.set(channel, data.values[channel]);
   else values.set(data.channel, data.value);
-  return {
-    ok: true,
-    frame: {
-      structureId: directory.structureId,
-      loggerId,
-      timeMs,
-      seq: data.seq ?? null,
-      values,
-      arrivalMs: raw.arrivalMs,
-    },
+  const frame: LoggerFrame = {
+    structureId: directory.structureId,
+    loggerId,
+    timeMs,
+    seq: data.seq ?? null,
+    values,
+    arrivalMs: raw.arrivalMs,
   };
+  if (data.synthetic === true) frame.synthetic = true;
+  return { ok: true, frame };
 }
 
 /** The logger id when the topic names this structure and a configured logger; else null (rejection pushed). */

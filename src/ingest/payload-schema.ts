@@ -17,6 +17,8 @@
  * - `values` (scan): object of channel id to raw reading in the channel's configured unit, or
  *   `null` when the logger could not read that channel. At least one channel.
  * - `channel` + `value` (single-channel): the same, for one channel.
+ * - `synthetic` (optional): `true` on simulated readings (the simulator sends it on every message);
+ *   the processor takes them in and warns, once per logger, in its log and presence message.
  * - No other keys: unknown keys are refused (strict), so a typo such as `valeus` is caught.
  * - Numbers must be finite. JSON cannot carry NaN; `1e999` parses to Infinity and is refused,
  *   as are strings such as "NaN" or "Infinity": send `null` for an unreadable channel.
@@ -49,6 +51,9 @@ export const seqSchema = z
   .int(expected('a non-negative integer'))
   .nonnegative(expected('a non-negative integer'));
 
+/** `synthetic: true` marks simulated readings; `false` is the same as leaving it out. */
+export const syntheticSchema = z.boolean(expected('true or false')).optional();
+
 /** One channel reading: a finite number in the channel's unit, or null (not read). */
 export const channelValueSchema = z.number(expected('a number or null')).nullable();
 
@@ -62,6 +67,7 @@ export const scanMessageSchema = z.strictObject(
     values: z
       .record(z.string(), channelValueSchema, expected('an object of channel values'))
       .refine((v) => Object.keys(v).length > 0, 'expected at least one channel'),
+    synthetic: syntheticSchema,
   },
   expected('a JSON object'),
 );
@@ -73,6 +79,7 @@ export const channelMessageSchema = z.strictObject(
     seq: seqSchema.optional(),
     channel: channelIdSchema,
     value: channelValueSchema,
+    synthetic: syntheticSchema,
   },
   expected('a JSON object'),
 );

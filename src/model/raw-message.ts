@@ -19,4 +19,6 @@ export interface LoggerFrame {
   /** Channel id to raw value in the channel's configured unit; null = the logger could not read it. */
   values: ReadonlyMap<string, number | null>;
   arrivalMs: number;
+  /** The message said `synthetic: true` (simulated readings); absent otherwise. */
+  synthetic?: true;
 }

@@ -61,7 +61,7 @@ export class ChannelScreen {
   private readonly channels = new Map<string, Map<string, ChannelState>>();
   private readonly waitMs = new Map<string, number>();
 
-  constructor(structure: CompiledStructure, private readonly health: HealthConfig | undefined = structure.config.alarms?.health) {
+  constructor(structure: CompiledStructure, private readonly health: HealthConfig | undefined = structure.alarms?.health) {
     const c = structure.config;
     const gaugeByChannel = new Map(c.gauges.map((g) => [`${g.channel.logger}/${g.channel.channel}`, g]));
     for (const l of c.loggers) this.waitMs.set(l.id, SCREEN_WAIT_INTERVALS * l.expected_interval_s * 1000);

@@ -87,7 +87,7 @@ export class FrameProcessor<M> {
 
   constructor(private readonly structure: CompiledStructure) {
     this.screen = new ChannelScreen(structure);
-    this.temperatureScreen = new TemperatureScreen(structure.config.alarms?.health);
+    this.temperatureScreen = new TemperatureScreen(structure.alarms?.health);
     for (const t of structure.temperatureSensors.values()) {
       let byChannel = this.sensorsByChannel.get(t.loggerId);
       if (byChannel === undefined) this.sensorsByChannel.set(t.loggerId, (byChannel = new Map()));

@@ -1,8 +1,7 @@
 import { flagsFromBits } from '../model/quality.js';
 import { VOIGT_ORDER } from '../mechanics/voigt.js';
+import { CAUTION as SAFETY } from '../model/caution.js';
 import type { CalculationReport } from './calculate.js';
-
-const SAFETY = 'strainward supports and does not replace qualified engineering judgement. Limits are set by the responsible engineer under local codes. Missing data is itself an alarm.';
 
 const f = (v: number | null, digits = 3): string => (v === null ? '-' : v.toFixed(digits));
 

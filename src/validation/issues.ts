@@ -56,7 +56,8 @@ export function describeIssue(issue: z.core.$ZodIssue): string {
       return `expected one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}, received ${issue.input === undefined ? received(undefined) : JSON.stringify(issue.input)}`;
     case 'invalid_union':
       if (issue.discriminator) {
-        const options = 'options' in issue ? (issue.options ?? []) : [];
+        // An optional discriminator lists `undefined` among its values: absent is said by the schema's docs, not here.
+        const options = ('options' in issue ? (issue.options ?? []) : []).filter((v) => v !== undefined);
         return `unknown ${issue.discriminator}, expected one of ${options.map((v) => JSON.stringify(v)).join(', ')}`;
       }
       return issue.message;

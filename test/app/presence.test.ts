@@ -54,6 +54,15 @@ describe('assessPresence: is the processor computing?', () => {
     expect(one(msg('stopped', 0))).toMatchObject({ healthy: false, reason: 'stopped' });
   });
 
+  it('alarms disabled and synthetic loggers are warnings of a healthy processor; none otherwise', () => {
+    expect(one(msg('online', 1)).warnings).toEqual([]);
+    const w = one(msg('online', 1, { alarms_disabled: true, synthetic_loggers: ['lg-span1', 'lg-thermal'] }));
+    expect(w.healthy).toBe(true);
+    expect(w.warnings).toHaveLength(2);
+    expect(w.warnings[0]).toMatch(/^alarms are DISABLED \(structure file: alarms: \{ disabled: true \}\)/);
+    expect(w.warnings[1]).toBe('SYNTHETIC (simulated) data from lg-span1, lg-thermal: results and alarms from it describe no real structure');
+  });
+
   it('an unreadable status is not healthy, and says why', () => {
     expect(one({ topic: 't/x', payload: new TextEncoder().encode('{oops') })).toMatchObject({ processor: 'x', state: 'unreadable', healthy: false, reason: 'unreadable status (not JSON)' });
     expect(one(msg('sleeping', 0)).reason).toMatch(/^unreadable status \(state: /);

@@ -2,6 +2,7 @@ import { describe, expect, it, vi } from 'vitest';
 import { main } from '../../src/cli/main.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
+import { CAUTION } from '../../src/model/caution.js';
 
 async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
   let out = '', err = '';
@@ -103,7 +104,9 @@ describe('strainward calc', () => {
     expect(code).toBe(0);
     const r = JSON.parse(out);
     expect(r.notice).toContain('does not replace qualified engineering judgement');
+    expect(r.notice).toContain('Alarm limits are set by the responsible engineer under the local codes');
     expect(r.notice).toContain('Missing data is itself an alarm');
+    expect(r.notice).toBe(CAUTION); // the one text of --help and the live job's start line
     // The configured thresholds of the rules scoped to this group (config/brannock-mere.yaml, alarms.rules).
     const rules = s.alarms!.rules.filter((x) => x.kind === 'limit' && x.scope.kind === 'groups' && x.scope.group_ids.includes('web-north-pier'));
     expect(r.limits).toHaveLength(rules.reduce((n, x) => n + x.thresholds.length, 0));

@@ -43,6 +43,24 @@ describe('decodeMessage: accepted', () => {
   });
 });
 
+describe('decodeMessage: synthetic (simulated) readings', () => {
+  it('synthetic: true is accepted and carried on the frame; false or absent leaves the frame unmarked; anything else is refused', () => {
+    const frameOf = (payload: string) => {
+      const r = decodeMessage(raw(payload), directory, pattern);
+      if (!r.ok) throw new Error(JSON.stringify(r.deadLetter.rejections));
+      return r.frame;
+    };
+    expect(frameOf('{"ts":1741944413589,"values":{"ch01":1},"synthetic":true}').synthetic).toBe(true);
+    expect('synthetic' in frameOf('{"ts":1741944413589,"values":{"ch01":1},"synthetic":false}')).toBe(false);
+    expect('synthetic' in frameOf('{"ts":1741944413589,"values":{"ch01":1}}')).toBe(false);
+    const single = decodeMessage(raw('{"ts":1741944413589,"channel":"t01","value":11.25,"synthetic":true}', 'strainward/brannock-mere/pier-temp/scan'), directory, pattern);
+    expect(single.ok && single.frame.synthetic).toBe(true);
+    expect(rejectionsOf('{"ts":1741944413589,"values":{"ch01":1},"synthetic":"yes"}')).toEqual([
+      { code: 'invalid_payload', path: 'synthetic', reason: 'synthetic: expected true or false, received string' },
+    ]);
+  });
+});
+
 describe('decodeMessage: each rejection kind, exact path and reason', () => {
   it('not_json: empty, not UTF-8, bad JSON', () => {
     expect(rejectionsOf('')).toEqual([{ code: 'not_json', path: '', reason: 'payload is empty' }]);

@@ -11,6 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decodeLines } from '../../src/adapters/lineproto/decode.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
+import { CAUTION } from '../../src/model/caution.js';
 import { startMosquitto } from '../support/servers.js';
 import { filesUnder, writeRuntimeFile } from '../support/runtime-file.js';
 
@@ -30,6 +31,11 @@ describe('strainward run', () => {
     const deadline = Date.now() + 20_000;
     while (!log.includes('"started"') && Date.now() < deadline) await new Promise((r) => setTimeout(r, 50));
     expect(log).toContain('"started"');
+    // The start line carries the caution (JSON logs, as on a service).
+    const started = log.split('\n').filter((l) => l.includes('"started"')).map((l) => JSON.parse(l) as { notice?: string; alarmsDisabled?: boolean });
+    expect(started).toHaveLength(1);
+    expect(started[0].notice).toBe(CAUTION);
+    expect(started[0].alarmsDisabled).toBe(false);
 
     const g = (await loadStructureFile('config/brannock-mere.yaml')).groupsById.get('flange-south-mid1')!;
     const t0 = Date.now();

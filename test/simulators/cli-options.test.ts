@@ -28,6 +28,27 @@ describe('simulator CLI options', () => {
   });
 });
 
+describe('simulator: a broker beyond this machine only when asked for', () => {
+  const brokerIssue = (broker: string, allowRemoteBroker = false) => {
+    const r = CliOptionsSchema.safeParse({ ...good, broker, allowRemoteBroker });
+    return r.success ? null : r.error.issues.map((i) => `${String(i.path[0])}: ${i.message}`).join('; ');
+  };
+
+  it('takes loopback brokers (127.0.0.0/8, ::1, localhost) without the option', () => {
+    for (const url of ['mqtt://127.0.0.1:1883', 'mqtt://127.8.9.10:1', 'mqtts://localhost:8883', 'mqtt://[::1]:1883', 'ws://127.0.0.1:8080/mqtt']) {
+      expect(brokerIssue(url), url).toBeNull();
+    }
+  });
+
+  it('refuses any other broker, naming the option that allows it, and takes it with --allow-remote-broker', () => {
+    for (const url of ['mqtt://10.0.0.5:1883', 'mqtt://0.0.0.0:1883', 'mqtt://broker.example.org', 'mqtt://[::ffff:7f00:1]:1883', 'mqtt://127.0.0.1.example.org']) {
+      expect(brokerIssue(url), url).toBe(`broker: ${url} is not on this machine (loopback): simulated readings there could fake or hide a real structure's alarms; `
+        + 'use a broker on 127.0.0.1, or give --allow-remote-broker if this broker serves no real structure');
+      expect(brokerIssue(url, true), url).toBeNull();
+    }
+  });
+});
+
 describe('simulator: when heavy vehicles pass and faults happen', () => {
   it('parses --heavy-at-s and --fault-at, and names what is wrong', () => {
     const o = CliOptionsSchema.parse({ ...good, heavyAtS: '40, 900', faultAt: 'dropout@240-270,silent@480,clock_drift@1200' });

@@ -15,6 +15,7 @@ describe('simulated messages follow the logger message contract', () => {
       const topic = parseTopic(pattern, scan.topic);
       expect(topic.ok && topic.structureId === 'brannock-mere' && s.directory.hasLogger(topic.loggerId)).toBe(true);
       const msg = scanMessageSchema.parse(JSON.parse(scan.payload));
+      expect(msg.synthetic).toBe(true); // every simulated message says so: the processor warns about it
       expect(parseLoggerTimestamp(msg.ts)).toEqual({ ok: true, timeMs: scan.loggerMs });
       for (const ch of Object.keys(msg.values)) expect(s.directory.hasChannel(scan.loggerId, ch)).toBe(true);
       // seq increases per logger (a silent logger leaves a gap, never a repeat)

@@ -14,7 +14,7 @@ const DURATION_S = 120;
 
 async function countSpikes(seed: number, vehiclesPerMin: number) {
   const s = await brannock();
-  const spike = s.config.alarms!.health.spike;
+  const spike = s.alarms!.health.spike;
   const sim = createSimulation(s, defaultScenario({ seed, start_ms: START_MS, duration_s: DURATION_S, day_s: DURATION_S, vehicles_per_min: vehiclesPerMin }));
   const injected = new Set(sim.faultLog.filter((e) => e.kind === 'spikes')
     .flatMap((e) => e.spike_times_ms!.map((t) => `${e.logger}/${e.channel}@${t}`)));

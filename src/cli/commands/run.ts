@@ -3,6 +3,7 @@ import { z } from 'zod';
 import { makeLogger } from '../../adapters/log/make-logger.js';
 import { startLive } from '../../app/live.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
+import { CAUTION } from '../help-text.js';
 import { parseOptions } from '../options.js';
 
 export const RunOptionsSchema = z.strictObject({
@@ -18,7 +19,7 @@ export function runCommand(): Command {
     .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON) naming the structure file')
     .option('--status-every <s>', 'log a status line every N seconds (0: never)', '60')
     .option('--log-format <format>', 'auto (readable lines on a terminal, JSON otherwise), json or lines', 'auto')
-    .addHelpText('after', '\nExample:\n  strainward run -c config/brannock-mere.run.yaml --status-every 30\n')
+    .addHelpText('after', '\nExample:\n  strainward run -c config/brannock-mere.run.yaml --status-every 30')
     .action(async (raw: unknown) => {
       const o = parseOptions(RunOptionsSchema, raw);
       const log = makeLogger(o.logFormat === 'auto' ? {} : { readable: o.logFormat === 'lines' });
@@ -26,7 +27,10 @@ export function runCommand(): Command {
       const live = await startLive(loaded, {
         now: Date.now, log: (event, detail) => log.info({ event, ...detail }), warn: (event, detail) => log.warn({ event, ...detail }),
       });
-      log.info({ event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion, livePage: live.pageUrl });
+      log.info({
+        event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion, livePage: live.pageUrl,
+        alarmsDisabled: loaded.structure.alarmsDisabled, notice: CAUTION,
+      });
       const timer = o.statusEvery > 0 ? setInterval(() => log.info({ event: 'status', ...live.status() }), o.statusEvery * 1000) : null;
       // Until a signal, or a login the broker refuses on a reconnect (a configuration error: retrying cannot cure it).
       const refused = await new Promise<Error | null>((done) => {

@@ -51,6 +51,7 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
     for (const a of assessed) {
       const age = Number.isFinite(a.age_s) ? `${a.age_s.toFixed(1)} s ago` : '';
       out(`${a.processor}  ${a.state}  ${age}${a.healthy ? '' : `  NOT HEALTHY: ${a.reason}`}`);
+      for (const w of a.warnings) out(`${a.processor}  WARNING: ${w}`);
     }
     if (assessed.length === 0) out(`no processor status on ${filter}`);
   }

@@ -34,6 +34,15 @@ describe('formatLogLine', () => {
       .toBe('08:09:12.345 WARNING 37 messages REFUSED from LG-02 in 10 s; first: x (kept in the dead-letter file)');
   });
 
+  it('the start line carries the caution, and says when alarms are disabled; synthetic data names its logger', () => {
+    expect(formatLogLine({ level: 30, time: at, event: 'started', structure: 'deck', protocolVersion: 5, livePage: null, alarmsDisabled: false, notice: 'Caution text.' }))
+      .toBe('08:09:12.345 INFO    started: structure deck. Caution text. protocolVersion=5');
+    expect(formatLogLine({ level: 30, time: at, event: 'started', structure: 'deck', alarmsDisabled: true, notice: 'Caution text.' }))
+      .toBe('08:09:12.345 INFO    started: structure deck, ALARMS DISABLED. Caution text.');
+    expect(formatLogLine({ level: 40, time: at, event: 'synthetic_data', logger: 'lg-1', reason: 'simulated' }))
+      .toBe('08:09:12.345 WARNING SYNTHETIC data from logger lg-1: simulated');
+  });
+
   it('an event without words keeps its name and every detail as key=value, strings with spaces quoted', () => {
     expect(formatLogLine({ level: 30, time: at, event: 'something_new', count: 3, note: 'two words', nested: { a: 1 } }))
       .toBe('08:09:12.345 INFO    something_new count=3 note="two words" nested={"a":1}');

@@ -17,6 +17,7 @@ const resultsArb = fc.array(
 
 describe('alarm engine properties', () => {
   it('no alarm without its cause: every structural raise or level rise comes from an unflagged result beyond the limit, every clear from one back past limit - margin', () => {
+    const checked = { raised: 0, cleared: 0 }; // structural transitions whose cause was checked
     fc.assert(
       fc.property(resultsArb, (rs) => {
         const engine = createAlarmEngine(config(), quiet);
@@ -33,13 +34,20 @@ describe('alarm engine properties', () => {
             expect(input.flags).toEqual([]);
             if (t.kind === 'raised' || (t.kind === 'level_changed' && t.alarm.levelIndex > cfgLevel(t.previousLevel))) {
               expect(r.vm).toBeGreaterThanOrEqual(t.alarm.limit!);
+              checked.raised++;
             }
-            if (t.kind === 'cleared') expect(r.vm).toBeLessThanOrEqual(t.alarm.limit! - 10);
+            if (t.kind === 'cleared') {
+              expect(r.vm).toBeLessThanOrEqual(t.alarm.limit! - 10);
+              checked.cleared++;
+            }
           }
         });
       }),
-      { numRuns: 300 },
+      // Random runs are short and mostly flagged (13-14 raises and 5-6 clears in 300 runs, measured): one unflagged raise and clear is given as an example.
+      { numRuns: 300, examples: [[[{ vm: 200, flag: null }, { vm: 100, flag: null }]]] },
     );
+    expect(checked.raised).toBeGreaterThan(0);
+    expect(checked.cleared).toBeGreaterThan(0);
   });
 
   it('every raised alarm is either still visible or both cleared and acknowledged', () => {
@@ -48,6 +56,8 @@ describe('alarm engine properties', () => {
       fc.record({ kind: fc.constant('ack' as const), n: fc.integer({ min: 1, max: 6 }), user: fc.constantFrom('eng-ashdown', 'tech-morrow', 'visitor') }),
       fc.record({ kind: fc.constant('tick' as const) }),
     );
+    // Alarms seen closed (cleared, acknowledged, gone): the branch that checks them must be reached.
+    let closedChecked = 0;
     fc.assert(
       fc.property(fc.array(step, { maxLength: 150 }), (steps) => {
         const engine = createAlarmEngine(config({ flapping: { max_cycles: 3, window_s: 20 } }), quiet);
@@ -66,11 +76,17 @@ describe('alarm engine properties', () => {
           const gone = !visible.has(id);
           const clearedAndAcked = mine.some((t) => t.kind === 'cleared') && mine.some((t) => t.kind === 'acknowledged');
           expect(gone ? clearedAndAcked : true).toBe(true);
-          if (gone) expect(mine[mine.length - 1].alarm.state).toBe('closed');
+          if (gone) {
+            expect(mine[mine.length - 1].alarm.state).toBe('closed');
+            closedChecked++;
+          }
         }
       }),
-      { numRuns: 300 },
+      // Random runs closed an alarm in only 3 to 5 of 300 runs (measured), so one run that closes one
+      // is given as an example: raised, cleared, acknowledged by an allowed user.
+      { numRuns: 300, examples: [[[{ kind: 'result', vm: 210 }, { kind: 'result', vm: 100 }, { kind: 'ack', n: 1, user: 'eng-ashdown' }]]] },
     );
+    expect(closedChecked).toBeGreaterThan(0);
   });
 
   it('hysteresis never chatters: a signal oscillating inside (threshold - margin, next threshold) raises once and never clears', () => {

@@ -16,6 +16,7 @@ export const EXAMPLES: Record<string, string> = {
   replay: 'strainward replay --capture var/capture -s config/brannock-mere.yaml --report var/replay/report.html',
   status: 'strainward status -c config/brannock-mere.run.yaml --wait-ms 3000',
   validate: 'strainward validate -c config/brannock-mere.run.yaml',
+  rezero: 'strainward rezero -c config/brannock-mere.run.yaml --group web-south-pier --user duty-engineer-1 --reason "gauge rw-sp-b re-bonded after repair"',
 };
 
 /** Wraps `text` at `width` columns, each line indented by `indent`. */

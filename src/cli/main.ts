@@ -5,6 +5,7 @@ import { brokerAclCommand } from './commands/broker-acl.js';
 import { calcCommand } from './commands/calc.js';
 import { recordCommand } from './commands/record.js';
 import { replayCommand } from './commands/replay.js';
+import { rezeroCommand } from './commands/rezero.js';
 import { runCommand } from './commands/run.js';
 import { statusCommand } from './commands/status.js';
 import { validateCommand } from './commands/validate.js';
@@ -29,7 +30,8 @@ export function buildProgram(): Command {
     .addCommand(replayCommand())
     .addCommand(statusCommand())
     .addCommand(brokerAclCommand())
-    .addCommand(validateCommand());
+    .addCommand(validateCommand())
+    .addCommand(rezeroCommand());
   const prepare = (cmd: Command): void => {
     // Every command (addCommand copies no settings): errors come back here, never process.exit.
     cmd.exitOverride().showSuggestionAfterError(true);

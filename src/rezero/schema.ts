@@ -92,5 +92,7 @@ export const RezeroVerdictSchema = z.object({
   reason: z.string(),
   at: z.string(),
   record: RezeroRecordSchema.nullable(),
+  /** Accepted: the overrides and audit files were written (false: in effect, but a restart would lose it). */
+  persisted: z.boolean(),
 });
 export type RezeroVerdict = z.infer<typeof RezeroVerdictSchema>;

@@ -28,6 +28,8 @@ export interface StructureSummary {
     acknowledgement: { structural: string[]; health: string[] };
   };
   fatigue_details: Array<{ id: string; group: string }>;
+  /** Who may take which groups' current readings as their new zero; null: nobody (no `rezero` section). */
+  rezero: null | { allowed: Array<{ user: string; groups: string[] }>; max_reading_age_s: number; request_topic: string; verdict_topic: string };
 }
 
 const channelOf = (logger: string, channel: string) => `${logger}/${channel}`;
@@ -73,6 +75,11 @@ export function structureSummary(s: CompiledStructure): StructureSummary {
     channels,
     alarms: s.alarms === null ? null : alarmsSummary(s.alarms, s.structureId),
     fatigue_details: (s.fatigue?.details ?? []).map((d) => ({ id: d.id, group: d.groupId })),
+    rezero: c.rezero === undefined ? null : {
+      allowed: c.rezero.allowed.map((a) => ({ user: a.user, groups: s.groups.filter((g) => a.groups.includes(g.config.id) || a.zones.includes(g.config.zone)).map((g) => g.config.id) })),
+      max_reading_age_s: c.rezero.max_reading_age_s,
+      request_topic: c.rezero.command_topic.replaceAll('{structure}', s.structureId), verdict_topic: c.rezero.verdict_topic.replaceAll('{structure}', s.structureId),
+    },
   };
 }
 
@@ -146,6 +153,8 @@ export function structureSummaryLines(s: StructureSummary): string[] {
     for (const r of a.recipients) out.push(`  ${r.id} (${r.kind}): ${r.channels.join('; ')}`);
     out.push(`acknowledge: structural ${a.acknowledgement.structural.join(', ') || 'nobody'}; health ${a.acknowledgement.health.join(', ') || 'nobody'}`);
   }
+  out.push(s.rezero === null ? 'rezero: nobody (no rezero section)'
+    : `rezero (requests on ${s.rezero.request_topic}, readings at most ${s.rezero.max_reading_age_s} s old): ${s.rezero.allowed.map((a) => `${a.user} for ${a.groups.join(', ')}`).join('; ')}`);
   if (s.fatigue_details.length > 0) out.push(`fatigue details (${s.fatigue_details.length}): ${s.fatigue_details.map((d) => `${d.id} (${d.group})`).join(', ')}`);
   return out;
 }

@@ -5,6 +5,7 @@ import type { CompiledStructure } from '../config/compile.js';
 import type { RuntimeConfig } from '../config/runtime-schema.js';
 import { compileTopicPattern, subscriptionFilter } from '../ingest/topic.js';
 import { presenceTopic } from './presence.js';
+import { rezeroSubscription } from '../rezero/topics.js';
 
 /**
  * Where a runtime file connects and writes, as plain data for `strainward validate`: the broker
@@ -30,6 +31,8 @@ export interface RuntimeSummary {
     alarm_state_file: string;
     alarm_log_file: string;
     live_page: { address: string; token: string } | null;
+    /** With a `rezero` section in the structure file. */
+    rezero: { overrides_file: string; audit_file: string } | null;
   };
 }
 
@@ -41,6 +44,7 @@ export function runtimeSummary(rc: RuntimeConfig, structure: CompiledStructure, 
   const s = structure.structureId;
   const subscriptions = [subscriptionFilter(compileTopicPattern(rc.mqtt.topic_pattern), s)];
   if (structure.alarms !== null) subscriptions.push(ackSubscription(structure.alarms, s));
+  if (structure.config.rezero !== undefined) subscriptions.push(rezeroSubscription(structure.config.rezero, s));
   const db = rc.database;
   const page = rc.live_page;
   return {
@@ -66,6 +70,7 @@ export function runtimeSummary(rc: RuntimeConfig, structure: CompiledStructure, 
       live_page: page === undefined ? null : {
         address: `http://${page.host}:${page.port}/`, token: secretSource(page.token_env, page.token_file, baseDir, 'none (loopback only)'),
       },
+      rezero: structure.config.rezero === undefined ? null : { overrides_file: path(rc.rezero.overrides_file), audit_file: path(rc.rezero.audit_file) },
     },
   };
 }
@@ -88,6 +93,7 @@ export function runtimeSummaryLines(r: RuntimeSummary): string[] {
     `capture: ${s.capture === null ? 'none (nothing to replay later)' : `${s.capture.dir}${s.capture.retention_hours === null ? '' : `, kept ${s.capture.retention_hours} h`}`}`,
     `alarm state: ${s.alarm_state_file}; alarm log: ${s.alarm_log_file}`,
     `live page: ${s.live_page === null ? 'none' : `${s.live_page.address}, token from ${s.live_page.token}`}`,
+    ...(s.rezero === null ? [] : [`zero overrides: ${s.rezero.overrides_file}; rezero audit: ${s.rezero.audit_file}`]),
   );
   return out;
 }

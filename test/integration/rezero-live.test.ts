@@ -162,4 +162,10 @@ describe('rezero through the broker', () => {
     expect([...replay6.keys()].sort((a, b) => a - b)).toEqual([100, 200, 300, 400, 500, 600]);
     for (const [t, v] of replay6) expect(v, `logger time t0 + ${t} ms`).toBe(live6.get(t));
   }, 90_000);
+
+  it('with no processor running: no verdict, exit 5 (the request waits on the broker for it)', async () => {
+    const r = await cli(['rezero', '-c', runtime, '--group', 'beam', '--user', 'eng-1', '--reason', 'nobody listening', '--timeout-ms', '1500']);
+    expect(r.code).toBe(5);
+    expect(r.err).toContain('no verdict from the processor within 1500 ms on strainward/test-structure/rezero-verdict/eng-1');
+  }, 20_000);
 });

@@ -127,50 +127,60 @@ export function attachRezero(loaded: LoadedRuntime, start: RezeroStart, deps: Re
   return {
     userOf,
     take(m) {
-      deps.record?.(m.raw);
-      const parsed = parseRezeroPayload(m.raw.payload, m.raw.arrivalMs, userOf(m.raw.topic) ?? '');
-      if (!parsed.ok) {
-        refused(parsed.refusal);
+      try {
+        takeRequest(m);
+      } catch (err) {
+        // Never into the intake stream: one bad request must not stop the scans.
+        deps.log('rezero_failed', { message: err instanceof Error ? err.message : String(err) });
         enqueue(() => m.ack());
-        return;
       }
-      const req = parsed.request;
-      const d = decideRezero(structure, start.cfg, req, deps.processor.latestReadings(req.groupId), deps.processor.zeroStepAt(req.groupId, Number.POSITIVE_INFINITY));
-      if (!d.ok) {
-        refused(d.refusal);
-        enqueue(() => m.ack());
-        return;
-      }
-      const record = d.record;
-      const applied = applyRezeroRecord(deps.processor, structure, record);
-      if (!applied.ok) throw new Error(`rezero of ${record.group_id} decided but not applicable: ${applied.reason}`); // decided on this structure: cannot happen
-      inEffect.set(record.group_id, record);
-      counts.accepted++;
-      const zone = structure.groupsById.get(record.group_id)!.config.zone;
-      deps.warn('rezero_applied', {
-        group: record.group_id, user: record.user, reason: record.reason, readingsTime: record.readings_time,
-        zeros: record.elements.map((e) => `${e.channel} ${e.old_zero} -> ${e.new_zero} ${e.unit}`).join('; '),
-        zeroTemperature: `${record.zero_temperature_degC.old} -> ${record.zero_temperature_degC.new} degC`,
-      });
-      enqueue(async () => {
-        let persisted = true;
-        try {
-          await writeZeroOverrides(start.overridesPath, s, [...inEffect.values()], deps.now());
-          await appendAudit(start.auditPath, { type: 'rezero', record });
-        } catch (err) {
-          persisted = false;
-          counts.persistFailures++;
-          deps.warn('rezero_not_persisted', { group: record.group_id, record: record.id, reason: err instanceof Error ? err.message : String(err), message: 'the new zero is in effect but a restart would lose it' });
-        }
-        deps.sink.write([rezeroPoint(record, zone)]).catch((err: unknown) => deps.log('rezero_point_failed', { message: String(err) }));
-        await answer({
-          request_id: req.requestId, group_id: record.group_id, user: record.user, verdict: 'accepted', code: null, at: record.at, record, persisted,
-          reason: `the readings of ${record.readings_time} are the zero of group ${record.group_id} from then on${persisted ? '' : '; NOT PERSISTED: a restart would lose it'}`,
-        });
-        m.ack();
-      });
     },
     counts: () => ({ ...counts }),
     close: () => chain,
   };
+
+  function takeRequest(m: InboundMessage): void {
+    deps.record?.(m.raw);
+    const parsed = parseRezeroPayload(m.raw.payload, m.raw.arrivalMs, userOf(m.raw.topic) ?? '');
+    if (!parsed.ok) {
+      refused(parsed.refusal);
+      enqueue(() => m.ack());
+      return;
+    }
+    const req = parsed.request;
+    const d = decideRezero(structure, start.cfg, req, deps.processor.latestReadings(req.groupId), deps.processor.zeroStepAt(req.groupId, Number.POSITIVE_INFINITY));
+    if (!d.ok) {
+      refused(d.refusal);
+      enqueue(() => m.ack());
+      return;
+    }
+    const record = d.record;
+    const applied = applyRezeroRecord(deps.processor, structure, record);
+    if (!applied.ok) throw new Error(`rezero of ${record.group_id} decided but not applicable: ${applied.reason}`); // decided on this structure: cannot happen
+    inEffect.set(record.group_id, record);
+    counts.accepted++;
+    const zone = structure.groupsById.get(record.group_id)!.config.zone;
+    deps.warn('rezero_applied', {
+      group: record.group_id, user: record.user, reason: record.reason, readingsTime: record.readings_time,
+      zeros: record.elements.map((e) => `${e.channel} ${e.old_zero} -> ${e.new_zero} ${e.unit}`).join('; '),
+      zeroTemperature: `${record.zero_temperature_degC.old} -> ${record.zero_temperature_degC.new} degC`,
+    });
+    enqueue(async () => {
+      let persisted = true;
+      try {
+        await writeZeroOverrides(start.overridesPath, s, [...inEffect.values()], deps.now());
+        await appendAudit(start.auditPath, { type: 'rezero', record });
+      } catch (err) {
+        persisted = false;
+        counts.persistFailures++;
+        deps.warn('rezero_not_persisted', { group: record.group_id, record: record.id, reason: err instanceof Error ? err.message : String(err), message: 'the new zero is in effect but a restart would lose it' });
+      }
+      deps.sink.write([rezeroPoint(record, zone)]).catch((err: unknown) => deps.log('rezero_point_failed', { message: String(err) }));
+      await answer({
+        request_id: req.requestId, group_id: record.group_id, user: record.user, verdict: 'accepted', code: null, at: record.at, record, persisted,
+        reason: `the readings of ${record.readings_time} are the zero of group ${record.group_id} from then on${persisted ? '' : '; NOT PERSISTED: a restart would lose it'}`,
+      });
+      m.ack();
+    });
+  }
 }

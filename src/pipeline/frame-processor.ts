@@ -2,7 +2,7 @@ import type { CompiledGroup, CompiledStructure, TemperatureChannel } from '../co
 import {
   BIT_ELEMENT_MISSING, BIT_ELEMENT_OUT_OF_RANGE, BIT_TEMPERATURE_MISSING, BIT_TEMPERATURE_STALE, BIT_UNDERDETERMINED, evaluateGroup,
 } from '../mechanics/evaluate-group.js';
-import { createGroupOutput, type GroupOutput } from '../mechanics/group-model.js';
+import { createGroupOutput, type GroupModel, type GroupOutput } from '../mechanics/group-model.js';
 import { qualityBit } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
 import type { GroupResult } from '../model/result.js';
@@ -50,6 +50,8 @@ interface GroupRuntime {
   withheld: number;
   /** Rezeros in effect, in time order (zero-steps.ts); empty: the configured zero. */
   zeroSteps: ZeroStep[];
+  /** The model the last frame was computed with: a change of zero restarts the averaged residual. */
+  lastModel: GroupModel;
   /** The latest computed frame's readings (`raw` holds its elements): what a rezero takes. */
   readingsTimeMs: number;
   readingsArrivalMs: number;
@@ -121,7 +123,7 @@ export class FrameProcessor<M> {
         group: g, raw: new Float64Array(g.model.m), out: createGroupOutput(g.model.m),
         temperature: { valueC: Number.NaN, ageS: Number.NaN, stale: false },
         drift: g.model.m > g.model.n ? newResidualDrift(g.model.m) : null, evaluated: 0, withheld: 0,
-        zeroSteps: [], readingsTimeMs: Number.NaN, readingsArrivalMs: Number.NaN, companionRaw: Number.NaN, readingsFlags: 0,
+        zeroSteps: [], lastModel: g.model, readingsTimeMs: Number.NaN, readingsArrivalMs: Number.NaN, companionRaw: Number.NaN, readingsFlags: 0,
       });
     }
   }
@@ -186,15 +188,11 @@ export class FrameProcessor<M> {
     return rt === undefined ? null : stepAt(rt.zeroSteps, timeMs);
   }
 
-  /**
-   * A new zero for the group's readings dated after `step.fromTimeMs`. The averaged residual starts
-   * again: it was taken against the old zero.
-   */
+  /** A new zero for the group's readings dated after `step.fromTimeMs`. */
   applyZeroStep(groupId: string, step: ZeroStep): void {
     const rt = this.groups.get(groupId);
     if (rt === undefined) throw new Error(`no group "${groupId}"`);
     insertStep(rt.zeroSteps, step);
-    if (rt.drift !== null) rt.drift = newResidualDrift(rt.group.model.m);
   }
 
   private releaseReady(clockMs: number, done: ProcessedFrame<M>[]): void {
@@ -261,7 +259,14 @@ export class FrameProcessor<M> {
         });
         continue;
       }
-      evaluateGroup(rt.zeroSteps.length === 0 ? g.model : modelAt(g.model, rt.zeroSteps, frame.timeMs), rt.raw, t.valueC, rt.companionRaw, rt.out);
+      const model = rt.zeroSteps.length === 0 ? g.model : modelAt(g.model, rt.zeroSteps, frame.timeMs);
+      // The averaged residual was taken against the other zero: it starts again at the first frame
+      // computed with this one (a frame, not the request, so live and replay restart it alike).
+      if (model !== rt.lastModel) {
+        rt.lastModel = model;
+        if (rt.drift !== null) rt.drift = newResidualDrift(g.model.m);
+      }
+      evaluateGroup(model, rt.raw, t.valueC, rt.companionRaw, rt.out);
       if (rt.drift !== null) {
         if (((rt.out.flags | extra) & NOT_FOR_DRIFT) === 0) residualDriftStep(rt.drift, rt.out.elementResidualMicro, g.model.m);
         if (rt.drift.drifting) extra |= BIT_RESIDUAL_DRIFT;

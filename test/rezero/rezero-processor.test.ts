@@ -5,7 +5,7 @@ import { FrameProcessor } from '../../src/pipeline/frame-processor.js';
 import { applyRezeroRecord } from '../../src/rezero/apply.js';
 import { decideRezero, parseRezeroPayload, type RezeroRequest } from '../../src/rezero/decide.js';
 import type { RezeroRecord } from '../../src/rezero/schema.js';
-import { baseDoc, compileOrThrow, microGauge } from '../support/structures.js';
+import { baseDoc, compileOrThrow, microGauge, planeRosetteDoc } from '../support/structures.js';
 
 const frame = (loggerId: string, timeMs: number, values: Record<string, number | null>, arrivalMs = timeMs): LoggerFrame =>
   ({ structureId: 'test-structure', loggerId, timeMs, seq: null, values: new Map(Object.entries(values)), arrivalMs });
@@ -97,6 +97,25 @@ describe('rezero in the frame processor', () => {
     expect(replayOut.map((o) => o.results)).toEqual(liveOut.map((o) => o.results));
     // 142 - 121 = 21 microstrain after the zero; x 210000 MPa = 4.41 MPa (Hooke's law, common practice).
     expect(liveOut[6].results[0].values.stress_axial_MPa).toBeCloseTo(4.41, 9);
+  });
+
+  it('a redundant rosette: the averaged residual restarts at the first frame on the new zero, live and replayed alike', () => {
+    const s = compileOrThrow({ ...planeRosetteDoc([0, 45, 90, 135]), rezero: { allowed: [{ user: 'eng-1', groups: ['r1'] }] } });
+    // A steady 20 microstrain offset on the fourth element over a small alternating noise: the averaged residual drifts.
+    const reading = (k: number) => Object.fromEntries([0, 1, 2, 3].map((i) => [`ch${i}`, ((k * 7 + i * 3) % 5) - 2 + (i === 3 ? 20 : 0)]));
+    const frames = Array.from({ length: 60 }, (_, k) => frame('lg', 1_000 + 100 * k, reading(k)));
+    const drifting = (o: { results: Array<{ flags: readonly string[] }> }) => o.results[0].flags.includes('residual_drift');
+    const live = new FrameProcessor<string>(s);
+    const liveOut = frames.slice(0, 50).flatMap((f) => live.onFrame(f, 'm', f.arrivalMs));
+    expect(drifting(liveOut[49])).toBe(true);
+    const d = decideRezero(s, s.config.rezero!, request({ groupId: 'r1', atMs: 6_000 }), live.latestReadings('r1'), null);
+    if (!d.ok) throw new Error(d.refusal.reason);
+    applyRezeroRecord(live as FrameProcessor<unknown>, s, d.record);
+    liveOut.push(...frames.slice(50).flatMap((f) => live.onFrame(f, 'm', f.arrivalMs)));
+    expect(liveOut.slice(50).some(drifting)).toBe(false);
+    const replayed = new FrameProcessor<string>(s);
+    applyRezeroRecord(replayed as FrameProcessor<unknown>, s, d.record);
+    expect(frames.flatMap((f) => replayed.onFrame(f, 'm', f.arrivalMs)).map((o) => o.results)).toEqual(liveOut.map((o) => o.results));
   });
 
   it('refuses, with a code and a reason, what must not become a zero', () => {

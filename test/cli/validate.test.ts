@@ -87,6 +87,10 @@ describe('validate as a function', () => {
     expect(r.structure.loggers.map((l) => [l.id, l.channels])).toEqual([['lg-pier', 7], ['lg-span1', 4], ['lg-slab', 8], ['lg-thermal', 4]]);
     expect(r.structure.groups.find((g) => g.id === 'slab-mid1')?.companion).toEqual({ gauge: 'ns-m1', channel: 'lg-slab/vw8' });
     expect(r.runtime?.sinks.results).toBe(`line-protocol files in ${resolve('var/lp')}`);
+    // Who may rezero which groups, where requests come and where the files go.
+    expect(r.structure.rezero?.allowed.map((a) => `${a.user}: ${a.groups.length}`)).toEqual(['duty-engineer-1: 5', 'duty-engineer-2: 5']);
+    expect(r.runtime?.broker.subscriptions).toContain('strainward/brannock-mere/rezero/+');
+    expect(r.runtime?.sinks.rezero).toEqual({ overrides_file: resolve('var/zero-overrides.json'), audit_file: resolve('var/rezero-audit.ndjson') });
   });
 
   it('an invalid file is a ConfigError naming the file, the field and the reason', async () => {

@@ -106,6 +106,7 @@ export function attachRezero(loaded: LoadedRuntime, start: RezeroStart, deps: Re
   const userOf = rezeroUserMatcher(start.cfg, s);
   const counts = { accepted: 0, refused: 0, persistFailures: 0 };
   let chain: Promise<void> = Promise.resolve();
+  let closed = false;
   // Answers in request order; a failing step is logged and never stops the later ones.
   const enqueue = (step: () => Promise<void> | void): void => {
     chain = chain.then(step).catch((err: unknown) => deps.log('rezero_failed', { message: err instanceof Error ? err.message : String(err) }));
@@ -127,6 +128,7 @@ export function attachRezero(loaded: LoadedRuntime, start: RezeroStart, deps: Re
   return {
     userOf,
     take(m) {
+      if (closed) return; // stopping: unacknowledged, the broker gives it to the next start
       try {
         takeRequest(m);
       } catch (err) {
@@ -136,7 +138,10 @@ export function attachRezero(loaded: LoadedRuntime, start: RezeroStart, deps: Re
       }
     },
     counts: () => ({ ...counts }),
-    close: () => chain,
+    close: () => {
+      closed = true;
+      return chain;
+    },
   };
 
   function takeRequest(m: InboundMessage): void {

@@ -29,13 +29,16 @@ export interface BrokerAclOptions {
   viewers: readonly string[];
   /** Further topic filters the processor publishes (e.g. the current-state topics), processor writes, viewers read. */
   stateFilters?: readonly string[];
+  /** Rezero request and verdict topics with `%u` (same identity scheme as acknowledgements), and the logins that may rezero. */
+  rezero?: { requestPattern: string; verdictPattern: string; users: readonly string[] };
 }
 
 const LOGIN = /^[A-Za-z0-9._-]+$/;
 
 /** The ACL text (pure). Throws when a login has characters an ACL line cannot hold. */
 export function mosquittoAcl(o: BrokerAclOptions): string {
-  const logins = [o.processorUser, ...Object.keys(o.loggers), ...Object.keys(o.crews), ...o.acknowledgers, ...o.viewers];
+  const rezeroUsers = o.rezero?.users ?? [];
+  const logins = [o.processorUser, ...Object.keys(o.loggers), ...Object.keys(o.crews), ...o.acknowledgers, ...o.viewers, ...rezeroUsers];
   const bad = logins.find((u) => !LOGIN.test(u));
   if (bad !== undefined) throw new Error(`broker user name "${bad}" has characters the ACL file cannot hold`);
   const anyLogin = (pattern: string) => pattern.replaceAll('%u', '+');
@@ -54,17 +57,23 @@ export function mosquittoAcl(o: BrokerAclOptions): string {
     ...o.notifyFilters.map((f) => `topic write ${f}`),
     ...(o.deadLetterTopic === null ? [] : [`topic write ${o.deadLetterTopic}`]),
     ...state.map((f) => `topic write ${f}`),
+    ...(o.rezero === undefined ? [] : [`topic read ${anyLogin(o.rezero.requestPattern)}`, `topic write ${anyLogin(o.rezero.verdictPattern)}`]),
     '',
   ];
   for (const [login, topic] of Object.entries(o.loggers)) lines.push(`# logger`, `user ${login}`, `topic write ${topic}`, '');
   for (const [login, filters] of Object.entries(o.crews)) lines.push('# crew', `user ${login}`, ...filters.map((f) => `topic read ${f}`), '');
   const readAll = [...o.notifyFilters.map((f) => `topic read ${f}`), ...(o.presenceFilter === null ? [] : [`topic read ${o.presenceFilter}`]), ...state.map((f) => `topic read ${f}`)];
   const own = (pattern: string, login: string) => pattern.replaceAll('%u', login);
+  const rezeroLines = (login: string) => (o.rezero === undefined || !rezeroUsers.includes(login) ? []
+    : [`topic write ${own(o.rezero.requestPattern, login)}`, `topic read ${own(o.rezero.verdictPattern, login)}`]);
   for (const login of o.acknowledgers) {
     lines.push(
-      '# acknowledges alarms (which classes: alarms.acknowledgement.allowed_users)', `user ${login}`,
-      `topic write ${own(o.ackPattern, login)}`, `topic read ${own(o.verdictPattern, login)}`, ...readAll, '',
+      `# acknowledges alarms (which classes: alarms.acknowledgement.allowed_users)${rezeroUsers.includes(login) ? ' and rezeroes groups (which: rezero.allowed)' : ''}`, `user ${login}`,
+      `topic write ${own(o.ackPattern, login)}`, `topic read ${own(o.verdictPattern, login)}`, ...rezeroLines(login), ...readAll, '',
     );
+  }
+  for (const login of rezeroUsers.filter((u, i) => !o.acknowledgers.includes(u) && rezeroUsers.indexOf(u) === i)) {
+    lines.push('# rezeroes groups (which: rezero.allowed)', `user ${login}`, ...rezeroLines(login), ...readAll, '');
   }
   for (const login of o.viewers) {
     lines.push('# read-only viewer', `user ${login}`, ...readAll, ...(o.deadLetterTopic === null ? [] : [`topic read ${o.deadLetterTopic}`]), '');

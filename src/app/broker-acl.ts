@@ -11,7 +11,7 @@ export interface AclRoles {
 /**
  * The broker ACL for a runtime file's structure, by its own conventions: the processor logs in as
  * `mqtt.username` (default `strainward`), each logger as its logger id, each crew with an MQTT
- * channel as its recipient id, each person allowed to acknowledge as their user name. Pure.
+ * channel as its recipient id, each person allowed to acknowledge or rezero as their user name. Pure.
  */
 export function brokerAclFor(loaded: LoadedRuntime, roles: AclRoles): string {
   const { runtime: rc, structure } = loaded;
@@ -42,5 +42,11 @@ export function brokerAclFor(loaded: LoadedRuntime, roles: AclRoles): string {
     crews,
     acknowledgers: [...new Set([...(allowed?.structural ?? []), ...(allowed?.health ?? [])])],
     viewers: roles.viewers,
+    ...(structure.config.rezero === undefined ? {} : {
+      rezero: {
+        requestPattern: fill(structure.config.rezero.command_topic), verdictPattern: fill(structure.config.rezero.verdict_topic),
+        users: [...new Set(structure.config.rezero.allowed.map((a) => a.user))],
+      },
+    }),
   });
 }

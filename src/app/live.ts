@@ -29,6 +29,7 @@ import { deadLetterLog } from './dead-letter-log.js';
 import { transitionLogLines } from './alarm-transition-log.js';
 import { ALARMS_DISABLED, requireAlarmsDecision } from './alarms-decision.js';
 import { SyntheticLoggers } from './synthetic-loggers.js';
+import { attachRezero, loadRezeroStart } from './rezero-wiring.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -87,6 +88,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
   const warn = deps.warn ?? deps.log;
+  const rezeroStart = await loadRezeroStart(loaded, deps.now, warn); // the zero overrides in effect, before any message
   const watch = watchComponents({
     report: (c) => {
       warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined });
@@ -100,7 +102,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     ...brokerAccess(rc, baseDir), clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
-    subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic])],
+    subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic]), ...(rezeroStart === null ? [] : [rezeroStart.subscription])],
   }, { now: deps.now, log: (event, detail) => { watch.brokerEvent(event); deps.log(event, detail); }, warn: deps.warn });
   // The processor's own publishes (presence and its last will, alarms, dead-letter copies) on a
   // connection of their own: their PUBACKs never queue behind scans the intake has stopped reading
@@ -119,6 +121,10 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const deadLetterWarnings = deadLetterLog(deadLetters, warn, 10_000, deps.scheduler ?? asyncScheduler, loggerOfTopic);
   const decodeCounts = newDecodeCounts();
   const processor = new FrameProcessor<PipelineMessage>(structure);
+  const rezero = rezeroStart === null ? null : attachRezero(loaded, rezeroStart, {
+    processor: processor as FrameProcessor<unknown>, sink, publish: outbound.publish, record: capture ? (raw) => capture.append(raw) : undefined, now: deps.now, log: deps.log, warn,
+  });
+  const isRezero = (m: InboundMessage): boolean => rezero !== null && rezero.userOf(m.raw.topic) !== null;
   let writeErrors = 0;
 
   // Commands from the live page take the ack topic's own path (capture, decoding, authorisation).
@@ -140,7 +146,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const inbound$ = connectable(connection.messages$.pipe(map(afterCapture)), { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
   const isCommand = (m: InboundMessage): boolean => commandUser(m.raw.topic) !== null;
   const inputs$ = merge(
-    inbound$.pipe(filter((m) => !isCommand(m)), map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
+    inbound$.pipe(filter((m) => !isCommand(m) && !isRezero(m)), map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
     interval(rc.tick_ms, deps.scheduler ?? asyncScheduler).pipe(map((): PipelineInput<PipelineMessage> => ({ kind: 'tick', nowMs: deps.now() }))),
   ).pipe(takeUntil(stop$));
   // Connected once every consumer (alarms, write-and-acknowledge) has subscribed.
@@ -192,6 +198,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       writeFailures.note(err instanceof Error ? err.message : String(err));
     }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
+  // A rezero request is decided in arrival order with the scans (the pipeline is synchronous up to the frame processor).
+  if (rezero !== null) inbound$.pipe(filter(isRezero)).subscribe((m) => rezero.take(m));
   processed$.connect();
   inbound$.connect();
   const status = () => ({
@@ -205,6 +213,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     alarms: alarmWiring?.counts() ?? null,
     alarmsDisabled: structure.alarmsDisabled,
     syntheticLoggers: synthetic.list(),
+    rezero: rezero?.counts() ?? null,
   });
   const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();
@@ -226,6 +235,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       stop$.next();
       stopped$.next();
       await drained;
+      await rezero?.close(); // answers given and files written before the sink and broker close
       writeFailures.stop();
       deadLetterWarnings.stop();
       watch.stop();

@@ -15,6 +15,9 @@ import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { writeAndAck } from '../pipeline/write-and-ack.js';
 import { replaySource } from './replay-source.js';
+import { applyRezeroRecord } from '../rezero/apply.js';
+import type { RezeroRecord } from '../rezero/schema.js';
+import { rezeroUserMatcher } from '../rezero/topics.js';
 
 export interface ReplayOptions {
   structure: CompiledStructure;
@@ -37,6 +40,8 @@ export interface ReplayOptions {
   maxFutureMs?: number;
   /** Run the structure's alarms too (its `alarms` section): transitions to the sink and the summary; deliveries recorded, not sent. */
   alarms?: boolean;
+  /** Rezeros recorded live (the audit file): each applies from its readings' logger time, as it did live. */
+  zeroRecords?: readonly RezeroRecord[];
   /** Further consumers of the processed stream, subscribed before it starts. */
   attach?: (processed$: Observable<FrameOutput<PipelineMessage>>) => void;
 }
@@ -50,6 +55,8 @@ export interface ReplaySummary {
   collected: GroupResult[];
   /** Alarm transitions, in order (when alarms ran). */
   transitions: AlarmTransition[];
+  /** Recorded rezeros installed, and those that do not fit this structure (and why). */
+  rezero: { applied: number; skipped: Array<{ id: string; reason: string }> };
 }
 
 /**
@@ -60,6 +67,15 @@ export interface ReplaySummary {
 export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const decodeCounts = newDecodeCounts();
   const processor = new FrameProcessor<PipelineMessage>(o.structure);
+  // The recorded outcome, not the request again: the same zero from the same logger time, whatever the window.
+  const rezero: ReplaySummary['rezero'] = { applied: 0, skipped: [] };
+  for (const r of o.zeroRecords ?? []) {
+    const a = applyRezeroRecord(processor as FrameProcessor<unknown>, o.structure, r);
+    if (a.ok) rezero.applied++;
+    else rezero.skipped.push({ id: r.id, reason: a.reason });
+  }
+  const rezeroUser = o.structure.config.rezero ? rezeroUserMatcher(o.structure.config.rezero, o.structure.structureId) : () => null;
+  const isRezeroRequest = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && rezeroUser(i.message.raw.topic) !== null;
   const collected: GroupResult[] = [];
   let messages = 0;
   let writeErrors = 0;
@@ -75,7 +91,7 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
     filter(isCommand),
     map((i): AckEvent => { const raw = (i as { message: PipelineMessage }).message.raw; return parseAckPayload(raw.payload, raw.arrivalMs, commandUser(raw.topic) ?? ''); }),
   );
-  const processed$ = source$.pipe(filter((i) => !isCommand(i)), pipeline<PipelineMessage>({
+  const processed$ = source$.pipe(filter((i) => !isCommand(i) && !isRezeroRequest(i)), pipeline<PipelineMessage>({
     structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters: o.deadLetters,
     decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: o.maxFutureMs,
   }));
@@ -94,5 +110,5 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   ), { defaultValue: null });
   await wiring?.close();
   await o.sink.close();
-  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions };
+  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions, rezero };
 }

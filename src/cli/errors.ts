@@ -5,7 +5,7 @@ import { MissingReadingError, UnknownGroupError, UnknownReadingError } from '../
 /**
  * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
  * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent), 5 an
- * acknowledgement refused by the processor or left without a verdict (`ack`), 6 the replayed capture
+ * acknowledgement or a rezero refused by the processor or left without a verdict (`ack`, `rezero`), 6 the replayed capture
  * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same), 7 the
  * broker refused the login (user name, password, authorisation; at start-up or on a later reconnect),
  * 8 the replay window holds no data (`replay`: nothing to replay, nothing written).
@@ -25,6 +25,14 @@ export class AckRefusedError extends Error {
   constructor(message: string, readonly verdict: { code: string | null } | null) {
     super(message);
     this.name = 'AckRefusedError';
+  }
+}
+
+/** `strainward rezero`: the processor refused the request, or gave no verdict within the wait. */
+export class RezeroRefusedError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'RezeroRefusedError';
   }
 }
 
@@ -55,7 +63,7 @@ export class UsageError extends Error {
 export function exitCodeFor(err: unknown): number {
   if (err instanceof ConfigError) return EXIT.config;
   if (err instanceof SilentProcessorError) return EXIT.silent;
-  if (err instanceof AckRefusedError) return EXIT.refused;
+  if (err instanceof AckRefusedError || err instanceof RezeroRefusedError) return EXIT.refused;
   if (err instanceof CaptureGapsError) return EXIT.gaps;
   if (err instanceof EmptyWindowError) return EXIT.emptyWindow;
   if (err instanceof BrokerLoginRefusedError) return EXIT.brokerLogin;

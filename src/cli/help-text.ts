@@ -10,6 +10,8 @@ export const EXAMPLES: Record<string, string> = {
   record: 'strainward record -c config/brannock-mere.run.yaml --dir var/capture-commissioning',
   replay: 'strainward replay --capture var/capture -s config/brannock-mere.yaml --report var/replay/report.html',
   status: 'strainward status -c config/brannock-mere.run.yaml --wait-ms 3000',
+  validate: 'strainward validate -c config/brannock-mere.run.yaml',
+  rezero: 'strainward rezero -c config/brannock-mere.run.yaml --group web-south-pier --user duty-engineer-1 --reason "gauge rw-sp-b re-bonded after repair"',
 };
 
 /** Wraps `text` at `width` columns, each line indented by `indent`. */

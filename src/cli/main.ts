@@ -5,8 +5,10 @@ import { brokerAclCommand } from './commands/broker-acl.js';
 import { calcCommand } from './commands/calc.js';
 import { recordCommand } from './commands/record.js';
 import { replayCommand } from './commands/replay.js';
+import { rezeroCommand } from './commands/rezero.js';
 import { runCommand } from './commands/run.js';
 import { statusCommand } from './commands/status.js';
+import { validateCommand } from './commands/validate.js';
 import { EXIT, exitCodeFor } from './errors.js';
 import { CAUTION, EXAMPLES, wrap } from './help-text.js';
 
@@ -27,7 +29,9 @@ export function buildProgram(): Command {
     .addCommand(recordCommand())
     .addCommand(replayCommand())
     .addCommand(statusCommand())
-    .addCommand(brokerAclCommand());
+    .addCommand(brokerAclCommand())
+    .addCommand(validateCommand())
+    .addCommand(rezeroCommand());
   const prepare = (cmd: Command): void => {
     // Every command (addCommand copies no settings): errors come back here, never process.exit.
     cmd.exitOverride().showSuggestionAfterError(true);

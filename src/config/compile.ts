@@ -6,6 +6,7 @@ import { problemsFromZod, type ValidationProblem } from '../validation/issues.js
 import { compileGroup } from './compile-group.js';
 import { compileMaterial, type MaterialModel } from './compile-material.js';
 import { crossCheck } from './cross-check.js';
+import { checkRezeroScopes } from '../rezero/schema.js';
 import type { GroupConfig } from './group-schema.js';
 import { StructureConfigSchema, type StructureConfig } from './structure-schema.js';
 
@@ -56,7 +57,7 @@ export function compileStructure(input: unknown): CompileResult {
   const parsed = StructureConfigSchema.safeParse(input, { reportInput: true });
   if (!parsed.success) return { ok: false, problems: problemsFromZod(parsed.error, [], StructureConfigSchema) };
   const c = parsed.data;
-  const problems = [...crossCheck(c), ...checkAlarmScopes(c)];
+  const problems = [...crossCheck(c), ...checkAlarmScopes(c), ...checkRezeroScopes(c)];
   const materials = new Map<string, MaterialModel>();
   c.materials.forEach((m, i) => {
     const r = compileMaterial(m);

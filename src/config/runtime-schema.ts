@@ -109,6 +109,14 @@ export const RuntimeConfigSchema = z.strictObject({
     log_file: z.string().min(1),
   }).default({ state_file: 'var/alarm-state.json', log_file: 'var/alarms.ndjson' }),
   /**
+   * Rezero (only with a `rezero` section in the structure file): the zero overrides in effect,
+   * restored at start, and the audit file every accepted rezero is appended to (replay reads it).
+   */
+  rezero: z.strictObject({
+    overrides_file: z.string().min(1),
+    audit_file: z.string().min(1),
+  }).default({ overrides_file: 'var/zero-overrides.json', audit_file: 'var/rezero-audit.ndjson' }),
+  /**
    * The live page served by the processor (absent: none). Beyond loopback it needs a token, read from
    * the environment variable `token_env` or the file `token_file` (relative to this file), never from here.
    */

@@ -4,6 +4,7 @@ import { GaugeSchema, TemperatureSensorSchema } from './gauge-schema.js';
 import { GroupSchema } from './group-schema.js';
 import { AlarmsSectionSchema } from '../alarms/schema.js';
 import { FatigueConfigSchema } from './fatigue-schema.js';
+import { RezeroConfigSchema } from '../rezero/schema.js';
 
 /**
  * One instrumented structure: materials, loggers, gauges, temperature sensors and gauge groups.
@@ -37,6 +38,8 @@ export const StructureConfigSchema = z.strictObject({
   alarms: AlarmsSectionSchema.optional(),
   /** Fatigue details: rainflow counting and damage per detail (absent: no fatigue counting). */
   fatigue: FatigueConfigSchema.optional(),
+  /** Who may take a group's current readings as its new zero (absent: nobody; the processor does not listen). */
+  rezero: RezeroConfigSchema.optional(),
 });
 
 export type StructureConfig = z.infer<typeof StructureConfigSchema>;

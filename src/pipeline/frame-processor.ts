@@ -2,7 +2,7 @@ import type { CompiledGroup, CompiledStructure, TemperatureChannel } from '../co
 import {
   BIT_ELEMENT_MISSING, BIT_ELEMENT_OUT_OF_RANGE, BIT_TEMPERATURE_MISSING, BIT_TEMPERATURE_STALE, BIT_UNDERDETERMINED, evaluateGroup,
 } from '../mechanics/evaluate-group.js';
-import { createGroupOutput, type GroupOutput } from '../mechanics/group-model.js';
+import { createGroupOutput, type GroupModel, type GroupOutput } from '../mechanics/group-model.js';
 import { qualityBit } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
 import type { GroupResult } from '../model/result.js';
@@ -12,6 +12,7 @@ import { TemperatureHistory } from './temperature-history.js';
 import { CHANNEL_FLATLINE, CHANNEL_HELD, CHANNEL_SPIKE, ChannelScreen, type FrameScreen } from './channel-screen.js';
 import { newResidualDrift, residualDriftStep, type ResidualDrift } from './residual-drift.js';
 import { TemperatureScreen } from './temperature-screen.js';
+import { insertStep, modelAt, stepAt, type ZeroStep } from './zero-steps.js';
 
 const BIT_READING_SPIKE = qualityBit('reading_spike');
 const BIT_READING_SUSPECT = qualityBit('reading_suspect');
@@ -47,6 +48,29 @@ interface GroupRuntime {
   drift: ResidualDrift | null;
   evaluated: number;
   withheld: number;
+  /** Rezeros in effect, in time order (zero-steps.ts); empty: the configured zero. */
+  zeroSteps: ZeroStep[];
+  /** The model the last frame was computed with: a change of zero restarts the averaged residual. */
+  lastModel: GroupModel;
+  /** The latest computed frame's readings (`raw` holds its elements): what a rezero takes. */
+  readingsTimeMs: number;
+  readingsArrivalMs: number;
+  companionRaw: number;
+  readingsFlags: number;
+}
+
+/** A group's latest computed readings, copied (`FrameProcessor.latestReadings`). */
+export interface GroupReadings {
+  timeMs: number;
+  arrivalMs: number;
+  /** Per element, in the signal's unit; NaN where missing. */
+  raw: number[];
+  /** NaN where missing or without a companion. */
+  companionRaw: number;
+  /** The group temperature used, degC; NaN when none. */
+  temperatureC: number;
+  /** Quality bits of the result computed from them (src/model/quality.ts). */
+  flags: number;
 }
 
 export interface FrameProcessorCounts {
@@ -99,6 +123,7 @@ export class FrameProcessor<M> {
         group: g, raw: new Float64Array(g.model.m), out: createGroupOutput(g.model.m),
         temperature: { valueC: Number.NaN, ageS: Number.NaN, stale: false },
         drift: g.model.m > g.model.n ? newResidualDrift(g.model.m) : null, evaluated: 0, withheld: 0,
+        zeroSteps: [], lastModel: g.model, readingsTimeMs: Number.NaN, readingsArrivalMs: Number.NaN, companionRaw: Number.NaN, readingsFlags: 0,
       });
     }
   }
@@ -145,6 +170,29 @@ export class FrameProcessor<M> {
   /** End of input: every held frame is computed with what is known. */
   flush(): ProcessedFrame<M>[] {
     return this.onTick(Number.POSITIVE_INFINITY);
+  }
+
+  /** The readings of the group's latest computed frame, or null before any (or for an unknown group). */
+  latestReadings(groupId: string): GroupReadings | null {
+    const rt = this.groups.get(groupId);
+    if (rt === undefined || !(rt.readingsTimeMs === rt.readingsTimeMs)) return null;
+    return {
+      timeMs: rt.readingsTimeMs, arrivalMs: rt.readingsArrivalMs, raw: Array.from(rt.raw), companionRaw: rt.companionRaw,
+      temperatureC: rt.temperature.valueC, flags: rt.readingsFlags,
+    };
+  }
+
+  /** The rezero in effect for the group's readings dated `timeMs`; null: the configured zero. */
+  zeroStepAt(groupId: string, timeMs: number): ZeroStep | null {
+    const rt = this.groups.get(groupId);
+    return rt === undefined ? null : stepAt(rt.zeroSteps, timeMs);
+  }
+
+  /** A new zero for the group's readings dated after `step.fromTimeMs`. */
+  applyZeroStep(groupId: string, step: ZeroStep): void {
+    const rt = this.groups.get(groupId);
+    if (rt === undefined) throw new Error(`no group "${groupId}"`);
+    insertStep(rt.zeroSteps, step);
   }
 
   private releaseReady(clockMs: number, done: ProcessedFrame<M>[]): void {
@@ -194,6 +242,9 @@ export class FrameProcessor<M> {
         rt.raw[i] = v === null || v === undefined ? Number.NaN : v;
       }
       const comp = g.companion ? frame.values.get(g.companion.channelId) : undefined;
+      rt.companionRaw = comp === null || comp === undefined ? Number.NaN : comp;
+      rt.readingsTimeMs = frame.timeMs;
+      rt.readingsArrivalMs = frame.arrivalMs;
       const t = groupTemperatureAt(g, this.histories, frame.timeMs, rt.temperature);
       let extra = (t.stale ? BIT_TEMPERATURE_STALE : 0) | (screen === null ? 0 : screenBits(g, screen));
       if (Number.isNaN(t.valueC) && g.config.temperature.withhold_when_missing) {
@@ -201,17 +252,26 @@ export class FrameProcessor<M> {
         rt.withheld++;
         this.counts.withheldResults++;
         extra |= BIT_TEMPERATURE_MISSING;
+        rt.readingsFlags = extra;
         results.push({
           structureId: this.structure.structureId, groupId: g.config.id, zone: g.config.zone, loggerId: frame.loggerId,
           timeMs: frame.timeMs, seq: frame.seq, values: {}, elementStrainMicro: {}, flags: ['temperature_missing'],
         });
         continue;
       }
-      evaluateGroup(g.model, rt.raw, t.valueC, comp === null || comp === undefined ? Number.NaN : comp, rt.out);
+      const model = rt.zeroSteps.length === 0 ? g.model : modelAt(g.model, rt.zeroSteps, frame.timeMs);
+      // The averaged residual was taken against the other zero: it starts again at the first frame
+      // computed with this one (a frame, not the request, so live and replay restart it alike).
+      if (model !== rt.lastModel) {
+        rt.lastModel = model;
+        if (rt.drift !== null) rt.drift = newResidualDrift(g.model.m);
+      }
+      evaluateGroup(model, rt.raw, t.valueC, rt.companionRaw, rt.out);
       if (rt.drift !== null) {
         if (((rt.out.flags | extra) & NOT_FOR_DRIFT) === 0) residualDriftStep(rt.drift, rt.out.elementResidualMicro, g.model.m);
         if (rt.drift.drifting) extra |= BIT_RESIDUAL_DRIFT;
       }
+      rt.readingsFlags = rt.out.flags | extra;
       rt.evaluated++;
       this.counts.results++;
       results.push(toGroupResult(this.structure.structureId, g, rt.out, frame.timeMs, frame.seq, extra, t.ageS));

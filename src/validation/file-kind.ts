@@ -23,3 +23,15 @@ export function wrongFileKind(doc: unknown, expected: 'structure' | 'runtime', o
   }
   return null;
 }
+
+/**
+ * Which kind of file a parsed document is, by the keys only each kind has: a structure file
+ * describes `groups` and `gauges`; a runtime file names its structure file (`structure: <file>`)
+ * beside where the broker is (`mqtt`). Null when it is neither. Pure.
+ */
+export function detectFileKind(doc: unknown): 'structure' | 'runtime' | null {
+  if (!isObject(doc)) return null;
+  if ('groups' in doc || 'gauges' in doc) return 'structure';
+  if (typeof doc.structure === 'string' || 'mqtt' in doc) return 'runtime';
+  return null;
+}

@@ -176,4 +176,20 @@ describe('the live job under the shipped broker ACL', () => {
     const refusals = log.filter((l) => l.type === 'refusal').map((l) => `${l.refusal.code}:${l.refusal.user}`);
     expect(refusals).toEqual(['user_not_allowed:instr-tech-1', 'identity_mismatch:instr-tech-1']);
   }, 30_000);
+
+  it('rezero requests: only a login named in rezero.allowed may publish one, on its own topic', async () => {
+    const rezero = (login: string) => cli([
+      'rezero', '-c', runtime, '--group', 'flange-south-mid1', '--user', login, '--reason', 'gauge re-bonded', '--timeout-ms', '3000',
+      '--mqtt-password-env', `SW_TEST_PW_${login.replaceAll('-', '_')}`,
+    ]);
+    // A technician may acknowledge health alarms but not rezero: the broker does not take the request (MQTT 5 PUBACK 0x87), exit 5.
+    const tech = await rezero('instr-tech-1');
+    expect(tech.code).toBe(5);
+    expect(tech.err).toContain('the broker refused the request: login "instr-tech-1" may not publish on strainward/brannock-mere/rezero/instr-tech-1 (broker ACL)');
+    // The duty engineer: decided by the processor against the scans published above, answered on the verdict topic.
+    const eng = await rezero('duty-engineer-1');
+    expect(eng.err).toBe('');
+    expect(eng.code).toBe(0);
+    expect(eng.out).toContain('sg-sm-a on lg-span1/ch04: zero 0 ->');
+  }, 20_000);
 });

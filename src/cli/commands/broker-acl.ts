@@ -18,7 +18,7 @@ export async function brokerAclText(raw: unknown): Promise<string> {
 /** `strainward broker-acl`: print the broker ACL every role of the live job needs. */
 export function brokerAclCommand(): Command {
   return new Command('broker-acl')
-    .description('print a Mosquitto acl_file for the structure: processor, loggers, crews, acknowledgers, read-only viewers')
+    .description('print a Mosquitto acl_file for the structure: processor, loggers, crews, acknowledgers, rezero users, read-only viewers')
     .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON) naming the structure file')
     .option('--viewer <login...>', 'read-only logins (dashboards, operators running status)')
     .addHelpText('after', '\nExample:\n  strainward broker-acl -c config/brannock-mere.run.yaml --viewer control-room-display > /etc/mosquitto/strainward.acl')

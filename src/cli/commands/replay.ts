@@ -18,6 +18,7 @@ import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import { parseOptions } from '../options.js';
+import { readAuditRecords } from '../../app/rezero-files.js';
 import { CaptureGapsError, EmptyWindowError, UsageError } from '../errors.js';
 
 const isoTime = z.string().refine((s) => Number.isFinite(Date.parse(s)), 'expected an ISO 8601 time, e.g. 2026-11-30T06:00:00Z');
@@ -68,6 +69,10 @@ export function replayCommand(): Command {
       const structure = loaded?.structure ?? await loadStructureFile(o.structure!);
       const window = { fromMs: o.from ? Date.parse(o.from) : undefined, toMs: o.to ? Date.parse(o.to) : undefined };
       const total = await countInWindow(o.capture, window);
+      // The runtime file's rezero audit: the zeros taken live apply in the replay from the same logger times.
+      const auditFile = loaded === null ? null : resolve(loaded.baseDir, loaded.runtime.rezero.audit_file);
+      const audit = auditFile === null ? { records: [], unreadable: 0 } : await readAuditRecords(auditFile);
+      if (audit.records.length > 0 || audit.unreadable > 0) process.stderr.write(`rezero audit ${auditFile}: ${audit.records.length} recorded rezeros${audit.unreadable > 0 ? `, ${audit.unreadable} unreadable lines skipped` : ''}\n`);
       const showProgress = o.progress ?? Boolean(process.stderr.isTTY);
       let clockMs = 0; // output files are named by data time, so a replay's output is the same run after run
       const gaps: CaptureGap[] = []; // of the first run (a comparison reads the same capture)
@@ -81,11 +86,12 @@ export function replayCommand(): Command {
           structure: s, messages: readCapture(o.capture, window, onGap), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
           deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
           topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains,
-          maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, collectResults: collect, alarms: true,
+          maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, collectResults: collect, alarms: true, zeroRecords: audit.records,
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
           onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
         });
         bar?.finish(summary.messages);
+        for (const k of summary.rezero.skipped) process.stderr.write(`rezero ${k.id} not applied (${tag}): ${k.reason}\n`);
         return summary;
       };
       if (o.database && !loaded?.runtime.database) throw new UsageError(`--database: ${o.config} configures no database`);

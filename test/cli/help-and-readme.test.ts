@@ -24,7 +24,7 @@ async function help(args: string[]): Promise<{ code: number; out: string }> {
 
 describe('--help as a real process', () => {
   it('knows the commands it is checking', () => {
-    expect(COMMANDS.sort()).toEqual(['ack', 'broker-acl', 'calc', 'record', 'replay', 'run', 'status']);
+    expect(COMMANDS.sort()).toEqual(['ack', 'broker-acl', 'calc', 'record', 'replay', 'rezero', 'run', 'status', 'validate']);
   });
 
   const programs: Array<[string, string[]]> = [

@@ -27,6 +27,8 @@ import { loadWebhookAuth } from './webhook-auth.js';
 import { watchComponents } from './component-watch.js';
 import { deadLetterLog } from './dead-letter-log.js';
 import { transitionLogLines } from './alarm-transition-log.js';
+import { metricsAccess, openMetricsEndpoint } from './metrics-endpoint.js';
+import { WriteTally } from './write-tally.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -44,6 +46,8 @@ export interface LiveProcessor {
   outbound: MqttConnection;
   /** The live page's address; null without a `live_page` section. */
   pageUrl: string | null;
+  /** The Prometheus endpoint's address; null without a `metrics` section. */
+  metricsUrl: string | null;
   status(): Record<string, unknown>;
   /** Stops taking messages, writes out what is in flight, closes everything. */
   stop(): Promise<void>;
@@ -81,6 +85,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
+  const metricsAt = rc.metrics === undefined ? null : await metricsAccess(rc.metrics, baseDir); // its token, too, before connecting
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
   const warn = deps.warn ?? deps.log;
   const watch = watchComponents({
@@ -116,6 +121,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const decodeCounts = newDecodeCounts();
   const processor = new FrameProcessor<PipelineMessage>(structure);
   let writeErrors = 0;
+  const written = new WriteTally();
 
   // Commands from the live page take the ack topic's own path (capture, decoding, authorisation).
   const pageCommands$ = new Subject<RawMessage>();
@@ -184,7 +190,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {
       writeErrors++;
       writeFailures.note(err instanceof Error ? err.message : String(err));
-    }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
+    }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ next: (o) => written.note(o), complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
   processed$.connect();
   inbound$.connect();
@@ -207,13 +213,21 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     };
   }, deps.now, (err) => deps.log('presence_failed', { message: err instanceof Error ? err.message : String(err) }));
 
+  const metrics = metricsAt === null ? null : await openMetricsEndpoint(metricsAt, {
+    structureId: structure.structureId, levels: alarmsCfg?.levels ?? [], decode: decodeCounts, deadLetters: deadLetters.counts, written,
+    writeErrors: () => writeErrors, database: () => influx?.status() ?? null, heldAcks: () => connection.stats().heldAcks,
+    openAlarms: () => alarmWiring?.visibleAlarms() ?? [], now: deps.now,
+  }, deps.log);
+
   return {
     connection,
     outbound,
     pageUrl: page?.url ?? null,
+    metricsUrl: metrics?.url ?? null,
     status,
     async stop() {
       await page?.close(); // no new acknowledgements while stopping; a waiting one is told so
+      await metrics?.close();
       stop$.next();
       stopped$.next();
       await drained;

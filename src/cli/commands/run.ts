@@ -26,7 +26,7 @@ export function runCommand(): Command {
       const live = await startLive(loaded, {
         now: Date.now, log: (event, detail) => log.info({ event, ...detail }), warn: (event, detail) => log.warn({ event, ...detail }),
       });
-      log.info({ event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion, livePage: live.pageUrl });
+      log.info({ event: 'started', structure: loaded.structure.structureId, protocolVersion: live.connection.protocolVersion, livePage: live.pageUrl, metrics: live.metricsUrl });
       const timer = o.statusEvery > 0 ? setInterval(() => log.info({ event: 'status', ...live.status() }), o.statusEvery * 1000) : null;
       // Until a signal, or a login the broker refuses on a reconnect (a configuration error: retrying cannot cure it).
       const refused = await new Promise<Error | null>((done) => {

@@ -62,12 +62,14 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const topicPattern = compileTopicPattern(rc.mqtt.topic_pattern);
   // The processor's own parts failing (spool, capture): logged, and instrument-health alarms.
   const componentFaults$ = new Subject<ComponentFault>();
+  // Lines a person must read (alarms, losses and returns, refusals, a filling spool): warnings.
+  const warn = deps.warn ?? deps.log;
   const componentFault = (component: string, failure: string | null): void => {
-    deps.log(failure === null ? `${component}_writable` : `${component}_unwritable`, failure === null ? {} : { reason: failure });
+    warn(failure === null ? `${component}_writable` : `${component}_unwritable`, failure === null ? {} : { reason: failure });
     componentFaults$.next({ type: 'component', component, failure, atMs: deps.now() });
   };
   const { sink, influx, lineFiles } = await openPointSink(rc, baseDir, deps.now, {
-    highWater: (s) => deps.log('spool_high_water', { fillRatio: s.fillRatio, limitBytes: s.limitBytes, diskFreeBytes: s.diskFreeBytes }),
+    highWater: (s) => warn('spool_high_water', { fillRatio: s.fillRatio, limitBytes: s.limitBytes, diskFreeBytes: s.diskFreeBytes }),
     writable: (failure) => componentFault('spool', failure),
   });
   const capture = rc.capture
@@ -87,7 +89,6 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   const metricsAt = rc.metrics === undefined ? null : await metricsAccess(rc.metrics, baseDir); // its token, too, before connecting
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
-  const warn = deps.warn ?? deps.log;
   const watch = watchComponents({
     report: (c) => {
       warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined });
@@ -169,7 +170,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     // Every command gets an answer on its user's verdict topic, refusals included (also in the log).
     onAckVerdict: (v) => {
-      if (v.verdict === 'refused') deps.log('ack_refused', { alarmId: v.alarm_id, user: v.user, code: v.code, reason: v.reason });
+      if (v.verdict === 'refused') warn('ack_refused', { alarmId: v.alarm_id, user: v.user, code: v.code, reason: v.reason });
       outbound.publish(ackVerdictTopic(alarmsCfg, structure.structureId, v.user), JSON.stringify(v), { qos: 1, retain: false })
         .catch((err: unknown) => deps.log('ack_verdict_failed', { user: v.user, message: err instanceof Error ? err.message : String(err) }));
     },
@@ -184,7 +185,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   page?.seedAlarms(alarmWiring?.visibleAlarms() ?? []);
   page?.attach(processed$);
   // One line per 10 s while writes fail (a full spool fails every frame), with the count.
-  const writeFailures = failureSummary(deps.log, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
+  const writeFailures = failureSummary(warn, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
     processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {

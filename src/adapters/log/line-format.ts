@@ -47,7 +47,7 @@ const TEMPLATES: Readonly<Record<string, (d: Detail) => [string, string[]]>> = {
   mqtt_window_exceeded: (d) => [`broker ignores the intake window: ${d.message}`, ['message']],
   mqtt_offline: () => ['broker connection lost; reconnecting (mqtt.reconnect_initial_ms, mqtt.reconnect_max_ms)', []],
   mqtt_connected: (d) => [`broker connected (MQTT ${d.protocolVersion === 5 ? '5' : '3.1.1'}${d.sessionPresent === true ? ', session kept' : ''})`, ['protocolVersion', 'sessionPresent']],
-  started: (d) => [`started: structure ${d.structure}${d.livePage ? `, live page ${d.livePage}` : ''}`, ['structure', 'livePage']],
+  started: (d) => [`started: structure ${d.structure}${d.livePage ? `, live page ${d.livePage}` : ''}${d.metrics ? `, metrics ${d.metrics}` : ''}`, ['structure', 'livePage', 'metrics']],
 };
 
 /** `key=value` with strings quoted only when they hold spaces; objects as compact JSON. */

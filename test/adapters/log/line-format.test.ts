@@ -58,4 +58,18 @@ describe('makeLogger', () => {
     const record = JSON.parse(lines[1]) as Record<string, unknown>;
     expect(record).toMatchObject({ level: 30, event: 'broker_back', component: 'broker', name: 'strainward' });
   });
+
+  it('level warn keeps the warnings and drops the info lines', async () => {
+    const lines: string[] = [];
+    const log = makeLogger({ readable: false, level: 'warn', write: (l) => lines.push(l) });
+    log.info({ event: 'status', frames: 10 });
+    log.warn({ event: 'database_unreachable', component: 'database', reason: 'connect ECONNREFUSED' });
+    await new Promise((r) => setImmediate(r));
+    expect(lines.map((l) => (JSON.parse(l) as { event: string; level: number }))).toMatchObject([{ event: 'database_unreachable', level: 40 }]);
+  });
+
+  it('the start line names the live page and the metrics endpoint', () => {
+    expect(formatLogLine({ level: 30, time: 0, event: 'started', structure: 'brannock-mere', livePage: 'http://127.0.0.1:8480/', metrics: 'http://127.0.0.1:9464/metrics', protocolVersion: 5 }))
+      .toBe('00:00:00.000 INFO    started: structure brannock-mere, live page http://127.0.0.1:8480/, metrics http://127.0.0.1:9464/metrics protocolVersion=5');
+  });
 });

@@ -91,7 +91,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
   const watch = watchComponents({
     report: (c) => {
-      warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined });
+      warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined, spoolBytes: influx?.status().spoolBytes ?? undefined });
       componentFaults$.next({ type: 'component', component: c.component, failure: c.failure, atMs: deps.now() });
     },
     brokerUrl: rc.mqtt.url, database: influx === null ? undefined : () => influx.status(), every_ms: 5_000, scheduler: deps.scheduler,

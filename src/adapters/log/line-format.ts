@@ -30,8 +30,9 @@ const TEMPLATES: Readonly<Record<string, (d: Detail) => [string, string[]]>> = {
   alarm_acknowledged: (d) => [`alarm ACKNOWLEDGED ${d.alarmLevel} ${d.class}: ${d.subject} by ${d.user} ("${d.reason}"); id ${d.alarmId}`,
     ['alarmLevel', 'class', 'subject', 'user', 'reason', 'alarmId', 'quantity', 'value', 'limit', 'units']],
   ack_refused: (d) => [`acknowledgement of ${d.alarmId} by ${d.user} REFUSED: ${d.reason}`, ['alarmId', 'user', 'reason']],
-  database_unreachable: (d) => [`database LOST: ${d.reason}`, ['reason', 'component']],
-  database_reachable: (d) => [`database BACK: results are written again, the spool drains (spool ${pct(d.spoolFillRatio)} full)`, ['component', 'spoolFillRatio']],
+  // The reason says where the spool stands (component-watch.ts).
+  database_unreachable: (d) => [`database LOST: ${d.reason}`, ['reason', 'component', 'spoolFillRatio', 'spoolBytes']],
+  database_reachable: (d) => [`database BACK: results are written again, the spool drains (spool ${typeof d.spoolBytes === 'number' ? `${mib(d.spoolBytes)}, ` : ''}${pct(d.spoolFillRatio)} full)`, ['component', 'spoolFillRatio', 'spoolBytes']],
   broker_lost: (d) => [`broker LOST: ${d.reason}`, ['reason', 'component']],
   broker_back: () => ['broker BACK: connected again', ['component']],
   webhook_failing: (d) => [`webhook FAILING (${d.component}): ${d.reason}`, ['reason', 'component']],

@@ -23,6 +23,11 @@ describe('formatLogLine', () => {
       .toBe('08:09:12.345 WARNING database LOST: unreachable: ECONNREFUSED; results go to the spool (spool 12.5 % full)');
     expect(formatLogLine({ level: 40, time: at, event: 'database_reachable', component: 'database', spoolFillRatio: 0.125 }))
       .toBe('08:09:12.345 WARNING database BACK: results are written again, the spool drains (spool 12.5 % full)');
+    // From the live job: with the spool's size in bytes.
+    expect(formatLogLine({ level: 40, time: at, event: 'database_unreachable', component: 'database', reason: 'unreachable: ECONNREFUSED; results go to the spool (spool 0.0 KiB, 0.0 % of its limit)', spoolFillRatio: 0, spoolBytes: 0 }))
+      .toBe('08:09:12.345 WARNING database LOST: unreachable: ECONNREFUSED; results go to the spool (spool 0.0 KiB, 0.0 % of its limit)');
+    expect(formatLogLine({ level: 40, time: at, event: 'database_reachable', component: 'database', spoolFillRatio: 0.125, spoolBytes: 128 * 1024 ** 2 }))
+      .toBe('08:09:12.345 WARNING database BACK: results are written again, the spool drains (spool 128.0 MiB, 12.5 % full)');
     expect(formatLogLine({ level: 30, time: at, event: 'spool_high_water', fillRatio: 0.8, limitBytes: 1024 ** 3, diskFreeBytes: 5 * 1024 ** 3 }))
       .toBe('08:09:12.345 INFO    spool 80.0 % full of 1024.0 MiB (disk free 5120.0 MiB): the database is not taking results; raise database.spool.limit_bytes or bring the database back');
   });

@@ -3,7 +3,7 @@ import pino, { type Logger } from 'pino';
 import { formatLogChunk } from './line-format.js';
 
 /** Levels a person may ask for: `warn` keeps only the lines to act on (alarms, losses, refusals). */
-export const LOG_LEVELS = ['info', 'warn', 'error'] as const;
+export const LOG_LEVELS = ['info', 'warn'] as const;
 export type LogLevel = (typeof LOG_LEVELS)[number];
 
 /**

@@ -19,7 +19,7 @@ export function runCommand(): Command {
     .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON) naming the structure file')
     .option('--status-every <s>', 'log a status line every N seconds (0: never)', '60')
     .option('--log-format <format>', 'auto (readable lines on a terminal, JSON otherwise), json or lines', 'auto')
-    .option('--log-level <level>', 'info (everything), warn (only what to act on: alarms, losses and returns, refusals) or error', 'info')
+    .option('--log-level <level>', 'info (everything) or warn (only what to act on: alarms, losses and returns, refusals)', 'info')
     .addHelpText('after', '\nExample:\n  strainward run -c config/brannock-mere.run.yaml --status-every 30\n')
     .action(async (raw: unknown) => {
       const o = parseOptions(RunOptionsSchema, raw);

@@ -28,6 +28,8 @@ fi
 
 npm ci
 npx tsc --noEmit -p .
+# bin/strainward.mjs runs dist/ when it is fresh: the commands the tests start as processes run the shipped build.
+npm run build
 npx vitest run
 # The fault proof: the live job through processor, broker, database and disk faults, counted (needs root: tmpfs).
 npm run test:faults

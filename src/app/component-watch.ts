@@ -29,7 +29,7 @@ export interface ComponentWatch {
 export function watchComponents(o: {
   report: (change: ComponentChange) => void;
   brokerUrl: string;
-  database?: () => { dbReachable: boolean | null; lastError: string | null; spoolFillRatio?: number | null; spoolDiskFreeBytes?: number | null };
+  database?: () => { dbReachable: boolean | null; lastError: string | null; spoolFillRatio?: number | null; spoolDiskFreeBytes?: number | null; spoolBytes?: number };
   every_ms: number;
   scheduler?: SchedulerLike;
 }): ComponentWatch {
@@ -48,7 +48,8 @@ export function watchComponents(o: {
       if (s.dbReachable === false) {
         // The fill is of the spool's own limit; the disk may fill long before it.
         const disk = s.spoolDiskFreeBytes === undefined || s.spoolDiskFreeBytes === null ? '' : `, ${readableBytes(s.spoolDiskFreeBytes)} free on its disk`;
-        const spool = s.spoolFillRatio === undefined || s.spoolFillRatio === null ? '' : ` (spool ${(100 * s.spoolFillRatio).toFixed(1)} % of its limit${disk})`;
+        const size = s.spoolBytes === undefined ? '' : `${readableBytes(s.spoolBytes)}, `;
+        const spool = s.spoolFillRatio === undefined || s.spoolFillRatio === null ? '' : ` (spool ${size}${(100 * s.spoolFillRatio).toFixed(1)} % of its limit${disk})`;
         change('database', `unreachable: ${s.lastError ?? 'no answer'}; results go to the spool${spool}`, 'database_unreachable');
       } else if (s.dbReachable === true) change('database', null, 'database_reachable');
     });

@@ -30,6 +30,8 @@ import { transitionLogLines } from './alarm-transition-log.js';
 import { ALARMS_DISABLED, requireAlarmsDecision } from './alarms-decision.js';
 import { SyntheticLoggers } from './synthetic-loggers.js';
 import { attachRezero, loadRezeroStart } from './rezero-wiring.js';
+import { metricsAccess, openMetricsEndpoint } from './metrics-endpoint.js';
+import { WriteTally } from './write-tally.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -47,6 +49,8 @@ export interface LiveProcessor {
   outbound: MqttConnection;
   /** The live page's address; null without a `live_page` section. */
   pageUrl: string | null;
+  /** The Prometheus endpoint's address; null without a `metrics` section. */
+  metricsUrl: string | null;
   status(): Record<string, unknown>;
   /** Stops taking messages, writes out what is in flight, closes everything. */
   stop(): Promise<void>;
@@ -63,12 +67,14 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const topicPattern = compileTopicPattern(rc.mqtt.topic_pattern);
   // The processor's own parts failing (spool, capture): logged, and instrument-health alarms.
   const componentFaults$ = new Subject<ComponentFault>();
+  // Lines a person must read (alarms, losses and returns, refusals, a filling spool): warnings.
+  const warn = deps.warn ?? deps.log;
   const componentFault = (component: string, failure: string | null): void => {
-    deps.log(failure === null ? `${component}_writable` : `${component}_unwritable`, failure === null ? {} : { reason: failure });
+    warn(failure === null ? `${component}_writable` : `${component}_unwritable`, failure === null ? {} : { reason: failure });
     componentFaults$.next({ type: 'component', component, failure, atMs: deps.now() });
   };
   const { sink, influx, lineFiles } = await openPointSink(rc, baseDir, deps.now, {
-    highWater: (s) => deps.log('spool_high_water', { fillRatio: s.fillRatio, limitBytes: s.limitBytes, diskFreeBytes: s.diskFreeBytes }),
+    highWater: (s) => warn('spool_high_water', { fillRatio: s.fillRatio, limitBytes: s.limitBytes, diskFreeBytes: s.diskFreeBytes }),
     writable: (failure) => componentFault('spool', failure),
   });
   const capture = rc.capture
@@ -86,12 +92,12 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
+  const metricsAt = rc.metrics === undefined ? null : await metricsAccess(rc.metrics, baseDir); // its token, too, before connecting
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
-  const warn = deps.warn ?? deps.log;
   const rezeroStart = await loadRezeroStart(loaded, deps.now, warn); // the zero overrides in effect, before any message
   const watch = watchComponents({
     report: (c) => {
-      warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined });
+      warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined, spoolBytes: influx?.status().spoolBytes ?? undefined });
       componentFaults$.next({ type: 'component', component: c.component, failure: c.failure, atMs: deps.now() });
     },
     brokerUrl: rc.mqtt.url, database: influx === null ? undefined : () => influx.status(), every_ms: 5_000, scheduler: deps.scheduler,
@@ -126,6 +132,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   });
   const isRezero = (m: InboundMessage): boolean => rezero !== null && rezero.userOf(m.raw.topic) !== null;
   let writeErrors = 0;
+  const written = new WriteTally();
 
   // Commands from the live page take the ack topic's own path (capture, decoding, authorisation).
   const pageCommands$ = new Subject<RawMessage>();
@@ -173,7 +180,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     // Every command gets an answer on its user's verdict topic, refusals included (also in the log).
     onAckVerdict: (v) => {
-      if (v.verdict === 'refused') deps.log('ack_refused', { alarmId: v.alarm_id, user: v.user, code: v.code, reason: v.reason });
+      if (v.verdict === 'refused') warn('ack_refused', { alarmId: v.alarm_id, user: v.user, code: v.code, reason: v.reason });
       outbound.publish(ackVerdictTopic(alarmsCfg, structure.structureId, v.user), JSON.stringify(v), { qos: 1, retain: false })
         .catch((err: unknown) => deps.log('ack_verdict_failed', { user: v.user, message: err instanceof Error ? err.message : String(err) }));
     },
@@ -190,13 +197,13 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const synthetic = new SyntheticLoggers(warn);
   processed$.pipe(filter((o) => o.kind === 'received')).subscribe((o) => synthetic.note(o.frame));
   // One line per 10 s while writes fail (a full spool fails every frame), with the count.
-  const writeFailures = failureSummary(deps.log, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
+  const writeFailures = failureSummary(warn, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
     processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {
       writeErrors++;
       writeFailures.note(err instanceof Error ? err.message : String(err));
-    }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
+    }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ next: (o) => written.note(o), complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
   // A rezero request is decided in arrival order with the scans (the pipeline is synchronous up to the frame processor).
   if (rezero !== null) inbound$.pipe(filter(isRezero)).subscribe((m) => rezero.take(m));
@@ -225,13 +232,21 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     };
   }, deps.now, (err) => deps.log('presence_failed', { message: err instanceof Error ? err.message : String(err) }));
 
+  const metrics = metricsAt === null ? null : await openMetricsEndpoint(metricsAt, {
+    structureId: structure.structureId, levels: alarmsCfg?.levels ?? [], decode: decodeCounts, deadLetters: deadLetters.counts, written,
+    writeErrors: () => writeErrors, database: () => influx?.status() ?? null, heldAcks: () => connection.stats().heldAcks,
+    openAlarms: () => alarmWiring?.visibleAlarms() ?? [], now: deps.now,
+  }, deps.log);
+
   return {
     connection,
     outbound,
     pageUrl: page?.url ?? null,
+    metricsUrl: metrics?.url ?? null,
     status,
     async stop() {
       await page?.close(); // no new acknowledgements while stopping; a waiting one is told so
+      await metrics?.close();
       stop$.next();
       stopped$.next();
       await drained;

@@ -1,16 +1,9 @@
 import { BrokerLoginRefusedError } from '../adapters/mqtt/login-refused.js';
 import { ConfigError } from '../config/compile.js';
 import { MissingReadingError, UnknownGroupError, UnknownReadingError } from '../results/calculate.js';
+import { EXIT } from './exit-codes.js';
 
-/**
- * Exit codes, in one place: 0 ok, 1 failure at run time, 2 bad usage or options, 3 invalid
- * configuration, 4 a processor is silent (`status`: offline, stopped, stale or absent), 5 an
- * acknowledgement or a rezero refused by the processor or left without a verdict (`ack`, `rezero`), 6 the replayed capture
- * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same), 7 the
- * broker refused the login (user name, password, authorisation; at start-up or on a later reconnect),
- * 8 the replay window holds no data (`replay`: nothing to replay, nothing written).
- */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6, brokerLogin: 7, emptyWindow: 8 } as const;
+export { EXIT } from './exit-codes.js';
 
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { parseListenAddress } from './listen-address.js';
 
 /**
  * Deployment settings of one processor (where the broker, database and files are), kept apart
@@ -132,6 +133,17 @@ export const RuntimeConfigSchema = z.strictObject({
     push_every_ms: duration_ms.min(100).default(1000),
     /** A line shown on top of the page, e.g. that the data is simulated. */
     notice: z.string().min(1).max(500).optional(),
+  }).optional(),
+  /**
+   * The processor's own health as a Prometheus text endpoint, `GET /metrics` (absent: none). Beyond
+   * loopback it needs a token, as the live page does: `token_env` or `token_file`, never here.
+   */
+  metrics: z.strictObject({
+    listen: z.string().refine((t) => parseListenAddress(t) !== null, {
+      error: (issue) => `expected host:port, e.g. 127.0.0.1:9464 ([::1]:9464 for IPv6; port 0: any free port), received "${String(issue.input)}"`,
+    }).default('127.0.0.1:9464'),
+    token_env: z.string().min(1).optional(),
+    token_file: z.string().min(1).optional(),
   }).optional(),
   /** What the decoder accepts from loggers. */
   ingest: z.strictObject({

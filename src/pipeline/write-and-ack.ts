@@ -6,7 +6,9 @@ import type { FrameOutput } from './process-frames.js';
 /** A frame being written: what is kept of it once encoded. */
 interface Written<M> {
   message: M;
+  loggerId: string;
   timeMs: number;
+  results: number;
 }
 
 interface Queued<M> {
@@ -17,8 +19,11 @@ interface Queued<M> {
 /** What the write stage emits for each frame once its write is over. */
 export interface WriteOutcome<M> {
   message: M;
+  loggerId: string;
   /** The logger's timestamp of the frame, epoch ms. */
   timeMs: number;
+  /** Group results the frame carried (written with it). */
+  results: number;
   /** False when the last attempt failed: the message was left for the broker to deliver again. */
   acknowledged: boolean;
 }
@@ -104,7 +109,7 @@ export function writeAndAck<M extends Acknowledgeable>(
     /** A frame's write is over; a frame given up at `until` emits nothing. */
     const settle = (w: Written<M>, acknowledged: boolean, dropped = false) => {
       inFlight--;
-      if (!dropped) subscriber.next({ message: w.message, timeMs: w.timeMs, acknowledged });
+      if (!dropped) subscriber.next({ message: w.message, loggerId: w.loggerId, timeMs: w.timeMs, results: w.results, acknowledged });
       startWaiting();
       finishIfDone();
     };
@@ -137,7 +142,7 @@ export function writeAndAck<M extends Acknowledgeable>(
       next: (p) => {
         if (p.kind !== 'frame') return;
         // Encoded at once, and only the message kept: the results are let go here.
-        const q: Queued<M> = { written: { message: p.message, timeMs: p.frame.timeMs }, block: encode(p) };
+        const q: Queued<M> = { written: { message: p.message, loggerId: p.frame.loggerId, timeMs: p.frame.timeMs, results: p.results.length }, block: encode(p) };
         if (inFlight < concurrency && head === waiting.length) start(q);
         else waiting.push(q);
       },

@@ -9,11 +9,11 @@ import { readFileSync } from 'node:fs';
 import { promisify } from 'node:util';
 import { describe, expect, it } from 'vitest';
 import { EXIT } from '../../src/cli/errors.js';
-import { buildProgram } from '../../src/cli/main.js';
+import { COMMANDS as COMMAND_TABLE } from '../../src/cli/main.js';
 import { CAUTION } from '../../src/model/caution.js';
 
 const run = promisify(execFile);
-const COMMANDS = buildProgram().commands.map((c) => c.name());
+const COMMANDS = COMMAND_TABLE.map((c) => c.name);
 const flat = (text: string) => text.replace(/\s+/g, ' ');
 
 async function help(args: string[]): Promise<{ code: number; out: string }> {

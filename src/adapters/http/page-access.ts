@@ -9,10 +9,13 @@ export function isLoopbackHost(host: string): boolean {
   return h === 'localhost' || h === '::1' || /^127(\.\d{1,3}){3}$/.test(h) || h === '::ffff:127.0.0.1';
 }
 
-/** Refuses a page bound beyond loopback without a token (the caller stops the start). Pure. */
-export function tokenProblem(host: string, token: string | null): string | null {
+/**
+ * Refuses a server bound beyond loopback without a token (the caller stops the start). Pure.
+ * `section` and `key` name the runtime setting: the live page's `host`, the metrics' `listen`.
+ */
+export function tokenProblem(host: string, token: string | null, section = 'live_page', key = 'host'): string | null {
   if (token !== null || isLoopbackHost(host)) return null;
-  return `live_page.host ${host} is reachable from other machines: set live_page.token_env or live_page.token_file (the token never goes in the runtime file), or bind it to 127.0.0.1`;
+  return `${section}.${key} ${host} is reachable from other machines: set ${section}.token_env or ${section}.token_file (the token never goes in the runtime file), or bind it to 127.0.0.1`;
 }
 
 /** The parts of a request the check reads. */

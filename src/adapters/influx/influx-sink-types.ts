@@ -34,6 +34,8 @@ export interface InfluxSinkStatus {
   /** Deleted by the spool's `drop_oldest` policy. */
   droppedPoints: number;
   refusedPoints: number;
+  /** Write attempts the database failed (each retry, and each failed probe of the spool's drainer). */
+  failedWrites: number;
   /** Redacted message of the latest failure; null before any. */
   lastError: string | null;
 }

@@ -49,7 +49,7 @@ export class InfluxSink implements PointSink {
   private readonly now: () => number;
   private readonly post: (lines: readonly string[]) => Promise<void>;
   private readonly drainer: SpoolDrainer;
-  private readonly counters = { writtenPoints: 0, spooledPoints: 0, refusedPoints: 0 };
+  private readonly counters = { writtenPoints: 0, spooledPoints: 0, refusedPoints: 0, failedWrites: 0 };
   private readonly health: { dbReachable: boolean | null; lastError: string | null } = { dbReachable: null, lastError: null };
 
   constructor(private readonly opts: InfluxSinkOptions) {
@@ -191,6 +191,7 @@ export class InfluxSink implements PointSink {
   }
 
   private noteFailed(err: DatabaseWriteError): void {
+    this.counters.failedWrites++;
     this.health.dbReachable = false;
     this.health.lastError = err.message;
   }

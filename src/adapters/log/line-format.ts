@@ -30,8 +30,9 @@ const TEMPLATES: Readonly<Record<string, (d: Detail) => [string, string[]]>> = {
   alarm_acknowledged: (d) => [`alarm ACKNOWLEDGED ${d.alarmLevel} ${d.class}: ${d.subject} by ${d.user} ("${d.reason}"); id ${d.alarmId}`,
     ['alarmLevel', 'class', 'subject', 'user', 'reason', 'alarmId', 'quantity', 'value', 'limit', 'units']],
   ack_refused: (d) => [`acknowledgement of ${d.alarmId} by ${d.user} REFUSED: ${d.reason}`, ['alarmId', 'user', 'reason']],
-  database_unreachable: (d) => [`database LOST: ${d.reason}`, ['reason', 'component']],
-  database_reachable: (d) => [`database BACK: results are written again, the spool drains (spool ${pct(d.spoolFillRatio)} full)`, ['component', 'spoolFillRatio']],
+  // The reason says where the spool stands (component-watch.ts).
+  database_unreachable: (d) => [`database LOST: ${d.reason}`, ['reason', 'component', 'spoolFillRatio', 'spoolBytes']],
+  database_reachable: (d) => [`database BACK: results are written again, the spool drains (spool ${typeof d.spoolBytes === 'number' ? `${mib(d.spoolBytes)}, ` : ''}${pct(d.spoolFillRatio)} full)`, ['component', 'spoolFillRatio', 'spoolBytes']],
   broker_lost: (d) => [`broker LOST: ${d.reason}`, ['reason', 'component']],
   broker_back: () => ['broker BACK: connected again', ['component']],
   webhook_failing: (d) => [`webhook FAILING (${d.component}): ${d.reason}`, ['reason', 'component']],
@@ -47,8 +48,8 @@ const TEMPLATES: Readonly<Record<string, (d: Detail) => [string, string[]]>> = {
   mqtt_window_exceeded: (d) => [`broker ignores the intake window: ${d.message}`, ['message']],
   mqtt_offline: () => ['broker connection lost; reconnecting (mqtt.reconnect_initial_ms, mqtt.reconnect_max_ms)', []],
   mqtt_connected: (d) => [`broker connected (MQTT ${d.protocolVersion === 5 ? '5' : '3.1.1'}${d.sessionPresent === true ? ', session kept' : ''})`, ['protocolVersion', 'sessionPresent']],
-  started: (d) => [`started: structure ${d.structure}${d.livePage ? `, live page ${d.livePage}` : ''}${d.alarmsDisabled === true ? ', ALARMS DISABLED' : ''}.${typeof d.notice === 'string' ? ` ${d.notice}` : ''}`,
-    ['structure', 'livePage', 'alarmsDisabled', 'notice']],
+  started: (d) => [`started: structure ${d.structure}${d.livePage ? `, live page ${d.livePage}` : ''}${d.metrics ? `, metrics ${d.metrics}` : ''}${d.alarmsDisabled === true ? ', ALARMS DISABLED' : ''}.${typeof d.notice === 'string' ? ` ${d.notice}` : ''}`,
+    ['structure', 'livePage', 'metrics', 'alarmsDisabled', 'notice']],
   alarms_disabled: (d) => [String(d.reason), ['reason']],
   synthetic_data: (d) => [`SYNTHETIC data from logger ${d.logger}: ${d.reason}`, ['logger', 'reason']],
 };

@@ -1,5 +1,4 @@
 import { access } from 'node:fs/promises';
-import { chromium } from 'playwright-core';
 
 /** Where Debian's `chromium` package puts the browser. */
 export const DEFAULT_CHROMIUM = '/usr/bin/chromium';
@@ -21,6 +20,8 @@ export async function htmlToPdf(html: string, outPath: string, executablePath = 
   } catch {
     throw new BrowserMissingError(executablePath);
   }
+  // Loaded here, not at the top: the browser driver alone took 2.4 s to import, which every command paid.
+  const { chromium } = await import('playwright-core');
   const browser = await chromium.launch({
     executablePath,
     args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'],

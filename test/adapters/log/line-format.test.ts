@@ -23,6 +23,11 @@ describe('formatLogLine', () => {
       .toBe('08:09:12.345 WARNING database LOST: unreachable: ECONNREFUSED; results go to the spool (spool 12.5 % full)');
     expect(formatLogLine({ level: 40, time: at, event: 'database_reachable', component: 'database', spoolFillRatio: 0.125 }))
       .toBe('08:09:12.345 WARNING database BACK: results are written again, the spool drains (spool 12.5 % full)');
+    // From the live job: with the spool's size in bytes.
+    expect(formatLogLine({ level: 40, time: at, event: 'database_unreachable', component: 'database', reason: 'unreachable: ECONNREFUSED; results go to the spool (spool 0.0 KiB, 0.0 % of its limit)', spoolFillRatio: 0, spoolBytes: 0 }))
+      .toBe('08:09:12.345 WARNING database LOST: unreachable: ECONNREFUSED; results go to the spool (spool 0.0 KiB, 0.0 % of its limit)');
+    expect(formatLogLine({ level: 40, time: at, event: 'database_reachable', component: 'database', spoolFillRatio: 0.125, spoolBytes: 128 * 1024 ** 2 }))
+      .toBe('08:09:12.345 WARNING database BACK: results are written again, the spool drains (spool 128.0 MiB, 12.5 % full)');
     expect(formatLogLine({ level: 30, time: at, event: 'spool_high_water', fillRatio: 0.8, limitBytes: 1024 ** 3, diskFreeBytes: 5 * 1024 ** 3 }))
       .toBe('08:09:12.345 INFO    spool 80.0 % full of 1024.0 MiB (disk free 5120.0 MiB): the database is not taking results; raise database.spool.limit_bytes or bring the database back');
   });
@@ -66,5 +71,19 @@ describe('makeLogger', () => {
     expect(lines[0]).toMatch(/^\d\d:\d\d:\d\d\.\d{3} WARNING broker LOST: connection to mqtt:\/\/127\.0\.0\.1:1883 lost; reconnecting\n$/);
     const record = JSON.parse(lines[1]) as Record<string, unknown>;
     expect(record).toMatchObject({ level: 30, event: 'broker_back', component: 'broker', name: 'strainward' });
+  });
+
+  it('level warn keeps the warnings and drops the info lines', async () => {
+    const lines: string[] = [];
+    const log = makeLogger({ readable: false, level: 'warn', write: (l) => lines.push(l) });
+    log.info({ event: 'status', frames: 10 });
+    log.warn({ event: 'database_unreachable', component: 'database', reason: 'connect ECONNREFUSED' });
+    await new Promise((r) => setImmediate(r));
+    expect(lines.map((l) => (JSON.parse(l) as { event: string; level: number }))).toMatchObject([{ event: 'database_unreachable', level: 40 }]);
+  });
+
+  it('the start line names the live page and the metrics endpoint', () => {
+    expect(formatLogLine({ level: 30, time: 0, event: 'started', structure: 'brannock-mere', livePage: 'http://127.0.0.1:8480/', metrics: 'http://127.0.0.1:9464/metrics', protocolVersion: 5 }))
+      .toBe('00:00:00.000 INFO    started: structure brannock-mere, live page http://127.0.0.1:8480/, metrics http://127.0.0.1:9464/metrics protocolVersion=5');
   });
 });

@@ -8,9 +8,18 @@ import { MissingReadingError, UnknownGroupError, UnknownReadingError } from '../
  * acknowledgement refused by the processor or left without a verdict (`ack`), 6 the replayed capture
  * has gaps (`replay` without `--accept-gaps`; the output and report are written all the same), 7 the
  * broker refused the login (user name, password, authorisation; at start-up or on a later reconnect),
- * 8 the replay window holds no data (`replay`: nothing to replay, nothing written).
+ * 8 the replay window holds no data (`replay`: nothing to replay, nothing written), 9 the broker
+ * cannot be reached (`status`, `alarms`: nothing can be said about the processors).
  */
-export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6, brokerLogin: 7, emptyWindow: 8 } as const;
+export const EXIT = { ok: 0, runtime: 1, usage: 2, config: 3, silent: 4, refused: 5, gaps: 6, brokerLogin: 7, emptyWindow: 8, brokerUnreachable: 9 } as const;
+
+/** `status`, `alarms`: the broker did not answer; `url` has its credentials redacted. */
+export class BrokerUnreachableError extends Error {
+  constructor(readonly url: string, readonly why: string, configFile: string) {
+    super(`cannot reach the broker at ${url} (${why}): nothing can be said about the processors; check mqtt.url in ${configFile}, the network and the broker`);
+    this.name = 'BrokerUnreachableError';
+  }
+}
 
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {
@@ -59,6 +68,7 @@ export function exitCodeFor(err: unknown): number {
   if (err instanceof CaptureGapsError) return EXIT.gaps;
   if (err instanceof EmptyWindowError) return EXIT.emptyWindow;
   if (err instanceof BrokerLoginRefusedError) return EXIT.brokerLogin;
+  if (err instanceof BrokerUnreachableError) return EXIT.brokerUnreachable;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError
     || err instanceof UnknownReadingError) return EXIT.usage;
   return EXIT.runtime;

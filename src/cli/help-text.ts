@@ -15,6 +15,7 @@ export const EXAMPLES: Record<string, string> = {
   record: 'strainward record -c config/brannock-mere.run.yaml --dir var/capture-commissioning',
   replay: 'strainward replay --capture var/capture -s config/brannock-mere.yaml --report var/replay/report.html',
   status: 'strainward status -c config/brannock-mere.run.yaml --wait-ms 3000',
+  alarms: 'strainward alarms -c config/brannock-mere.run.yaml --json',
 };
 
 /** Wraps `text` at `width` columns, each line indented by `indent`. */

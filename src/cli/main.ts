@@ -1,6 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { Command, CommanderError } from 'commander';
 import { ackCommand } from './commands/ack.js';
+import { alarmsCommand } from './commands/alarms.js';
 import { brokerAclCommand } from './commands/broker-acl.js';
 import { calcCommand } from './commands/calc.js';
 import { recordCommand } from './commands/record.js';
@@ -27,6 +28,7 @@ export function buildProgram(): Command {
     .addCommand(recordCommand())
     .addCommand(replayCommand())
     .addCommand(statusCommand())
+    .addCommand(alarmsCommand())
     .addCommand(brokerAclCommand());
   const prepare = (cmd: Command): void => {
     // Every command (addCommand copies no settings): errors come back here, never process.exit.

@@ -31,6 +31,12 @@ export function brokerAclFor(loaded: LoadedRuntime, roles: AclRoles): string {
   const allowed = structure.alarms?.acknowledgement.allowed_users;
   const fill = (t: string) => t.replaceAll('{structure}', s).replaceAll('{user}', '%u');
   const presence = presenceTopic(rc.presence.topic, s, '+');
+  // The retained current state (group results, open alarms): the processor writes, readers read.
+  const st = rc.state_topics;
+  const stateFilters = [
+    ...(st.groups_topic === '' ? [] : [st.groups_topic.replaceAll('{structure}', s).replaceAll('{group}', '+')]),
+    ...(st.alarms_topic === '' ? [] : [st.alarms_topic.replaceAll('{structure}', s)]),
+  ];
   return mosquittoAcl({
     processorUser: rc.mqtt.username ?? 'strainward',
     loggers,
@@ -42,5 +48,6 @@ export function brokerAclFor(loaded: LoadedRuntime, roles: AclRoles): string {
     crews,
     acknowledgers: [...new Set([...(allowed?.structural ?? []), ...(allowed?.health ?? [])])],
     viewers: roles.viewers,
+    stateFilters,
   });
 }

@@ -7,7 +7,7 @@ import type { FrameOutput } from '../pipeline/process-frames.js';
 import { ComponentFaultRegister } from './component-faults.js';
 import type { PresenceCounters } from './presence.js';
 import { groupState, groupStateTopic } from './state-topics/group-state.js';
-import { OpenAlarms, openAlarmsState } from './state-topics/open-alarms.js';
+import { OpenAlarms, openAlarmsMessage } from './state-topics/open-alarms.js';
 import { RetainedPublisher } from './state-topics/retained-publisher.js';
 
 /** What the live job tells an operator beyond its results: presence details and the retained state topics. */
@@ -49,7 +49,7 @@ export function startOperatorState(o: {
   const who = { structure: o.structureId, processor: o.processor };
   const alarmsTopic = o.stateTopics.alarms_topic === '' || o.levels === null ? null : o.stateTopics.alarms_topic.replaceAll('{structure}', o.structureId);
   const publishAlarms = (): void => {
-    if (alarmsTopic !== null) publisher.send(alarmsTopic, () => JSON.stringify(openAlarmsState(open.list(), who, o.now())));
+    if (alarmsTopic !== null) publisher.send(alarmsTopic, () => openAlarmsMessage(open.list(), who, o.now(), o.stateTopics.max_message_bytes));
   };
 
   const latest = new Map<string, GroupResult>();

@@ -2,7 +2,7 @@ import { Subject, VirtualTimeScheduler } from 'rxjs';
 import { describe, expect, it } from 'vitest';
 import { startOperatorState } from '../../src/app/operator-state.js';
 import { GroupStateSchema } from '../../src/app/state-topics/group-state.js';
-import { OpenAlarmsStateSchema } from '../../src/app/state-topics/open-alarms.js';
+import { openAlarmsMessage, openAlarmsState, OpenAlarmsStateSchema } from '../../src/app/state-topics/open-alarms.js';
 import { RetainedPublisher } from '../../src/app/state-topics/retained-publisher.js';
 import type { Alarm, AlarmTransition, ComponentFault } from '../../src/alarms/types.js';
 import type { GroupResult } from '../../src/model/result.js';
@@ -30,7 +30,7 @@ function alarm(id: string, level: string, state: Alarm['state'], acknowledgement
   };
 }
 
-function setUp(stateTopics = { interval_s: 5, groups_topic: 's/{structure}/state/groups/{group}', alarms_topic: 's/{structure}/state/alarms' }) {
+function setUp(stateTopics = { interval_s: 5, groups_topic: 's/{structure}/state/groups/{group}', alarms_topic: 's/{structure}/state/alarms', max_message_bytes: 200_000 }) {
   const scheduler = new VirtualTimeScheduler();
   const sent: Array<{ topic: string; body: Record<string, unknown>; retain: boolean | undefined }> = [];
   const faults$ = new Subject<ComponentFault>();
@@ -73,7 +73,7 @@ describe('operator state: retained group states at a low rate', () => {
   });
 
   it('an empty groups topic publishes no group state', async () => {
-    const { scheduler, sent, processed$, op } = setUp({ interval_s: 5, groups_topic: '', alarms_topic: '' });
+    const { scheduler, sent, processed$, op } = setUp({ interval_s: 5, groups_topic: '', alarms_topic: '', max_message_bytes: 200_000 });
     processed$.next(frame(result('g1', T0, 10)));
     scheduler.schedule(() => { void op.stop(); }, 11_000);
     scheduler.flush();
@@ -108,6 +108,21 @@ describe('operator state: the retained list of open alarms', () => {
     expect(lists[3].alarms[0]).toMatchObject({ acknowledged_at: '2026-05-01T12:00:03.000Z', since: '2026-05-01T12:00:00.000Z', limit: 55, units: 'MPa', subject: { kind: 'group', group_id: 'g1' } });
     expect(op.counters().open_alarms).toEqual({ total: 1, by_level: { action: 0, alert: 0, advisory: 1 }, unacknowledged: 0 });
     await op.stop();
+  });
+
+  it('a list over max_message_bytes leaves out the least severe entries and says how many are open', () => {
+    const who = { structure: 'deck', processor: 'sw-1' };
+    const alarms = Array.from({ length: 10 }, (_, i) => alarm(`a${i}`, 'advisory', 'active_unacknowledged'));
+    const whole = openAlarmsMessage(alarms, who, T0, 200_000);
+    expect(whole).toBe(JSON.stringify(openAlarmsState(alarms, who, T0)));
+    const oneEntry = JSON.stringify(OpenAlarmsStateSchema.parse(JSON.parse(whole)).alarms[0]).length;
+    const limit = whole.length - 3 * oneEntry; // three entries too long
+    const cut = openAlarmsMessage(alarms, who, T0, limit);
+    expect(Buffer.byteLength(cut)).toBeLessThanOrEqual(limit);
+    const parsed = OpenAlarmsStateSchema.parse(JSON.parse(cut));
+    expect(parsed).toMatchObject({ count: 10, listed: 7 });
+    expect(parsed.alarms.map((a) => a.alarm_id)).toEqual(['a0', 'a1', 'a2', 'a3', 'a4', 'a5', 'a6']);
+    expect(OpenAlarmsStateSchema.parse(JSON.parse(openAlarmsMessage(alarms, who, T0, 100)))).toMatchObject({ count: 10, listed: 0, alarms: [] });
   });
 
   it('carries the component faults reported, for the presence message', async () => {

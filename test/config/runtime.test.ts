@@ -40,7 +40,7 @@ describe('runtime configuration: the broker connection', () => {
 describe('runtime configuration: the retained state topics', () => {
   it('default: group states every 5 s and the open-alarm list, each on its own topic', () => {
     expect(parseRuntimeConfig(base, 'run.yaml').state_topics).toEqual({
-      interval_s: 5, groups_topic: 'strainward/{structure}/state/groups/{group}', alarms_topic: 'strainward/{structure}/state/alarms',
+      interval_s: 5, groups_topic: 'strainward/{structure}/state/groups/{group}', alarms_topic: 'strainward/{structure}/state/alarms', max_message_bytes: 200_000,
     });
   });
 

@@ -76,7 +76,10 @@ export const OpenAlarmsStateSchema = z.object({
   processor: z.string().min(1),
   /** Processor time of the list, ISO 8601 UTC. */
   at: iso,
+  /** Open alarms in all. */
   count: z.number().int().nonnegative(),
+  /** Entries in `alarms`: fewer than `count` when the least severe were left out to fit `state_topics.max_message_bytes`. */
+  listed: z.number().int().nonnegative(),
   alarms: z.array(OpenAlarmEntrySchema),
 });
 
@@ -91,11 +94,26 @@ function subjectFields(a: Alarm): Record<string, string | null> {
   return { kind: 'channel', logger_id: s.loggerId, channel_id: s.channelId, group_id: s.groupId };
 }
 
-/** The retained message's body. Pure. */
+/**
+ * The retained message's body, as JSON text of at most `maxBytes` (UTF-8): a list the broker
+ * refuses (its max_packet_size) would leave the old one standing, so the least severe entries are
+ * left out instead, `count` still saying how many are open. Pure.
+ */
+export function openAlarmsMessage(alarms: readonly Alarm[], who: { structure: string; processor: string }, atMs: number, maxBytes: number): string {
+  const body = openAlarmsState(alarms, who, atMs);
+  const entries = body.alarms.map((e) => JSON.stringify(e));
+  const head = (listed: number) => JSON.stringify({ ...body, listed, alarms: [] }).slice(0, -2); // up to `"alarms":[`
+  let listed = entries.length;
+  let size = Buffer.byteLength(head(listed)) + 2 + entries.reduce((n, e) => n + Buffer.byteLength(e) + 1, 0);
+  while (listed > 0 && size > maxBytes) size -= Buffer.byteLength(entries[--listed]) + 1;
+  return `${head(listed)}${entries.slice(0, listed).join(',')}]}`;
+}
+
+/** The retained message's body, every open alarm listed. Pure. */
 export function openAlarmsState(alarms: readonly Alarm[], who: { structure: string; processor: string }, atMs: number): OpenAlarmsState {
   const iso8601 = (ms: number) => new Date(ms).toISOString();
   return {
-    schema: 'strainward.open-alarms/1', structure: who.structure, processor: who.processor, at: iso8601(atMs), count: alarms.length,
+    schema: 'strainward.open-alarms/1', structure: who.structure, processor: who.processor, at: iso8601(atMs), count: alarms.length, listed: alarms.length,
     alarms: alarms.map((a): OpenAlarmEntry => ({
       alarm_id: a.id, alarm_class: a.alarmClass, rule: a.ruleId, level: a.level, state: a.state as OpenAlarmEntry['state'],
       zone: a.zone, location: a.location, subject: subjectFields(a), quantity: a.quantity, value: a.value, limit: a.limit, units: a.units,

@@ -95,7 +95,8 @@ export async function readOpenAlarms(raw: unknown, out: (line: string) => void, 
   } else {
     const standing = processor === null ? 'presence is off: cannot tell whether it is current'
       : processor.healthy ? `${list.processor} online` : `${list.processor} NOT HEALTHY: ${processor.reason}`;
-    out(`open alarms of ${list.structure}: ${list.count} (list of ${list.at}, ${age_s.toFixed(1)} s ago; ${standing})`);
+    const cut = list.listed < list.count ? `; only the ${list.listed} most severe listed (state_topics.max_message_bytes)` : '';
+    out(`open alarms of ${list.structure}: ${list.count} (list of ${list.at}, ${age_s.toFixed(1)} s ago; ${standing}${cut})`);
     if (list.alarms.length > 0) for (const line of alarmsTable(list.alarms)) out(line);
   }
   if (processor !== null && !processor.healthy) {

@@ -47,6 +47,8 @@ export interface AlarmWiringDeps {
   log?: AlarmLog;
   /** A failure that did not stop the alarms (snapshot, points, log), for the application log. */
   onError?: (event: string, err: unknown) => void;
+  /** Each batch once persisted (snapshot, points), before its deliveries are done: for state that must not wait on a slow receiver. */
+  onPersisted?: (batch: AlarmBatch) => void;
   /** Each handled batch and its delivery records, in order. */
   onBatch?: (batch: AlarmBatch, records: readonly DeliveryRecord[]) => void;
   /** Faults of the processor's own parts (live only: a replay has none), as health-alarm inputs. */
@@ -180,6 +182,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
       return;
     }
     const { deliveries } = await persistAndDeliver(w.batch);
+    try { deps.onPersisted?.(w.batch); } catch (err) { report('alarm_observer_failed', err); }
     verdicts(w.batch.transitions, w.batch.refusals);
     c.batches++;
     c.refusals += w.batch.refusals.length;

@@ -31,6 +31,12 @@ export function brokerAclFor(loaded: LoadedRuntime, roles: AclRoles): string {
   const allowed = structure.alarms?.acknowledgement.allowed_users;
   const fill = (t: string) => t.replaceAll('{structure}', s).replaceAll('{user}', '%u');
   const presence = presenceTopic(rc.presence.topic, s, '+');
+  // The retained current state (group results, open alarms): the processor writes, readers read.
+  const st = rc.state_topics;
+  const stateFilters = [
+    ...(st.groups_topic === '' ? [] : [st.groups_topic.replaceAll('{structure}', s).replaceAll('{group}', '+')]),
+    ...(st.alarms_topic === '' ? [] : [st.alarms_topic.replaceAll('{structure}', s)]),
+  ];
   return mosquittoAcl({
     processorUser: rc.mqtt.username ?? 'strainward',
     loggers,
@@ -48,5 +54,6 @@ export function brokerAclFor(loaded: LoadedRuntime, roles: AclRoles): string {
         users: [...new Set(structure.config.rezero.allowed.map((a) => a.user))],
       },
     }),
+    stateFilters,
   });
 }

@@ -32,6 +32,7 @@ import { SyntheticLoggers } from './synthetic-loggers.js';
 import { attachRezero, loadRezeroStart } from './rezero-wiring.js';
 import { metricsAccess, openMetricsEndpoint } from './metrics-endpoint.js';
 import { WriteTally } from './write-tally.js';
+import { startOperatorState } from './operator-state.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -120,6 +121,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     ...(statusTopic === null ? {} : { will: { topic: statusTopic, payload: presenceMessage('offline', who, deps.now()), retain: true } }),
   }, { now: deps.now, log: (event, detail) => deps.log(event, { ...detail, connection: 'outbound' }), warn: deps.warn });
 
+  // Component faults, open alarms and the retained state topics for operators (status, any MQTT client).
+  const operator = startOperatorState({
+    stateTopics: rc.state_topics, structureId: structure.structureId, processor: rc.mqtt.client_id, levels: alarmsCfg?.levels ?? null,
+    publish: outbound.publish, componentFaults$, now: deps.now, scheduler: deps.scheduler, onError: deps.log,
+  });
   const deadLetterSinks: DeadLetterSink[] = [new NdjsonFileDeadLetterSink(await ensureParent(resolve(baseDir, rc.dead_letters.file)))];
   if (rc.dead_letters.mqtt_topic) deadLetterSinks.push(new MqttDeadLetterSink(outbound.publish, structure.structureId, rc.dead_letters.mqtt_topic, rc.dead_letters.mqtt_max_packet_bytes));
   const deadLetters = new DeadLetterFanOut(deadLetterSinks);
@@ -186,6 +192,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     },
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
     componentFaults$,
+    onPersisted: (batch) => operator.onTransitions(batch.transitions),
     onBatch: (batch, records) => {
       page?.onAlarmBatch(batch);
       watch.deliveries(records);
@@ -196,6 +203,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   page?.attach(processed$);
   const synthetic = new SyntheticLoggers(warn);
   processed$.pipe(filter((o) => o.kind === 'received')).subscribe((o) => synthetic.note(o.frame));
+  operator.seedAlarms(alarmWiring?.visibleAlarms() ?? []);
+  operator.attach(processed$);
   // One line per 10 s while writes fail (a full spool fails every frame), with the count.
   const writeFailures = failureSummary(warn, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
@@ -229,6 +238,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       held_acks: connection.stats().heldAcks, database_reachable: db ? db.dbReachable : null, spool_fill_ratio: db ? db.spoolFillRatio : null,
       spool_limit_bytes: db ? db.spoolLimitBytes : null, spool_disk_free_bytes: db ? db.spoolDiskFreeBytes : null,
       synthetic_loggers: synthetic.list(),
+      spool_bytes: db ? db.spoolBytes : null, rejected_by_code: { ...deadLetters.counts.byCode }, ...operator.counters(),
     };
   }, deps.now, (err) => deps.log('presence_failed', { message: err instanceof Error ? err.message : String(err) }));
 
@@ -255,6 +265,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       deadLetterWarnings.stop();
       watch.stop();
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
+      await operator.stop();
       await sink.close();
       await capture?.close();
       await presence?.stop(); // `stopped`, retained, before the DISCONNECT that keeps the will unsent

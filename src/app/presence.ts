@@ -37,6 +37,29 @@ export interface PresenceMessage {
   spool_disk_free_bytes?: number | null;
   /** Loggers seen sending `synthetic: true` (simulated) messages since start. */
   synthetic_loggers?: string[];
+  /** Bytes in the spool now (results waiting for the database). */
+  spool_bytes?: number | null;
+  /** Dead-lettered messages' rejections by reason code (a message may carry several). */
+  rejected_by_code?: Record<string, number>;
+  /** Open (not closed) alarms by level; null without an alarms section. */
+  open_alarms?: OpenAlarmCounts | null;
+  /** The processor's own parts failing now (database, broker, spool, capture, webhooks). */
+  component_faults?: ComponentFaultEntry[];
+}
+
+/** Open alarms counted for the status: `by_level` keyed by the structure's level names. */
+export interface OpenAlarmCounts {
+  total: number;
+  by_level: Record<string, number>;
+  /** Of them, not yet acknowledged by anyone. */
+  unacknowledged: number;
+}
+
+/** One failing component, since when (ISO 8601 UTC, processor time) and why. */
+export interface ComponentFaultEntry {
+  component: string;
+  failure: string;
+  since: string;
 }
 
 /** Who publishes: the part of every presence message (the last will included) that never changes. */
@@ -49,7 +72,8 @@ export function presenceTopic(pattern: string, structureId: string, clientId: st
 }
 
 /** Counters of the live job's status, in the presence message's names. */
-export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio' | 'spool_limit_bytes' | 'spool_disk_free_bytes' | 'synthetic_loggers'>;
+export type PresenceCounters = Pick<PresenceMessage, 'frames' | 'results' | 'rejected_messages' | 'held_acks' | 'database_reachable' | 'spool_fill_ratio'
+  | 'spool_limit_bytes' | 'spool_disk_free_bytes' | 'spool_bytes' | 'rejected_by_code' | 'open_alarms' | 'component_faults' | 'synthetic_loggers'>;
 
 export interface Presence {
   /** Publishes `stopped` (retained) and ends the heartbeat. */

@@ -5,6 +5,14 @@ import { EXIT } from './exit-codes.js';
 
 export { EXIT } from './exit-codes.js';
 
+/** `status`, `alarms`: the broker did not answer; `url` has its credentials redacted. */
+export class BrokerUnreachableError extends Error {
+  constructor(readonly url: string, readonly why: string, configFile: string) {
+    super(`cannot reach the broker at ${url} (${why}): nothing can be said about the processors; check mqtt.url in ${configFile}, the network and the broker`);
+    this.name = 'BrokerUnreachableError';
+  }
+}
+
 /** `strainward status` found no healthy processor status, or an unhealthy one. */
 export class SilentProcessorError extends Error {
   constructor(message: string) {
@@ -60,6 +68,7 @@ export function exitCodeFor(err: unknown): number {
   if (err instanceof CaptureGapsError) return EXIT.gaps;
   if (err instanceof EmptyWindowError) return EXIT.emptyWindow;
   if (err instanceof BrokerLoginRefusedError) return EXIT.brokerLogin;
+  if (err instanceof BrokerUnreachableError) return EXIT.brokerUnreachable;
   if (err instanceof UsageError || err instanceof UnknownGroupError || err instanceof MissingReadingError
     || err instanceof UnknownReadingError) return EXIT.usage;
   return EXIT.runtime;

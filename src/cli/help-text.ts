@@ -12,6 +12,7 @@ export const EXAMPLES: Record<string, string> = {
   status: 'strainward status -c config/brannock-mere.run.yaml --wait-ms 3000',
   validate: 'strainward validate -c config/brannock-mere.run.yaml',
   rezero: 'strainward rezero -c config/brannock-mere.run.yaml --group web-south-pier --user duty-engineer-1 --reason "gauge rw-sp-b re-bonded after repair"',
+  alarms: 'strainward alarms -c config/brannock-mere.run.yaml --json',
 };
 
 /** Wraps `text` at `width` columns, each line indented by `indent`. */

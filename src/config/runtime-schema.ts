@@ -49,6 +49,19 @@ export const RuntimeConfigSchema = z.strictObject({
     topic: z.string().default('strainward/{structure}/processor/{client_id}'),
     every_s: z.number().positive().default(10),
   }).default({ topic: 'strainward/{structure}/processor/{client_id}', every_s: 10 }),
+  /**
+   * The current state for any MQTT client, retained: each group's latest result every `interval_s`
+   * (only groups with a newer result), and the list of open alarms on every transition.
+   * `{structure}` (and `{group}`) are replaced; an empty topic switches that part off.
+   */
+  state_topics: z.strictObject({
+    interval_s: z.number().min(0.1).default(5),
+    groups_topic: z.string().default('strainward/{structure}/state/groups/{group}')
+      .refine((t) => t === '' || t.includes('{group}'), 'must contain {group} (one retained topic per group), or be empty'),
+    alarms_topic: z.string().default('strainward/{structure}/state/alarms'),
+    /** Largest open-alarm list (JSON bytes; about 700 an alarm): keep it under the broker's max_packet_size. Beyond it the least severe are left out. */
+    max_message_bytes: z.number().int().min(4096).max(268_435_000).default(200_000),
+  }).default({ interval_s: 5, groups_topic: 'strainward/{structure}/state/groups/{group}', alarms_topic: 'strainward/{structure}/state/alarms', max_message_bytes: 200_000 }),
   /** What is written with every result, to the database or the files. */
   results: z.strictObject({
     /** Each element's mechanical strain (`el_<gauge>_micro`); a replay of the raw archive gives them later too. */

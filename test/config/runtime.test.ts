@@ -36,3 +36,18 @@ describe('runtime configuration: the broker connection', () => {
     });
   });
 });
+
+describe('runtime configuration: the retained state topics', () => {
+  it('default: group states every 5 s and the open-alarm list, each on its own topic', () => {
+    expect(parseRuntimeConfig(base, 'run.yaml').state_topics).toEqual({
+      interval_s: 5, groups_topic: 'strainward/{structure}/state/groups/{group}', alarms_topic: 'strainward/{structure}/state/alarms', max_message_bytes: 200_000,
+    });
+  });
+
+  it('a groups topic without {group} would put every group on one topic: refused with the reason; empty switches it off', () => {
+    expect(problems({ ...base, state_topics: { groups_topic: 'strainward/{structure}/state/groups' } }))
+      .toEqual(['state_topics.groups_topic: must contain {group} (one retained topic per group), or be empty']);
+    expect(problems({ ...base, state_topics: { groups_topic: '', alarms_topic: '' } })).toEqual([]);
+    expect(problems({ ...base, state_topics: { interval_s: 0 } })).toEqual([expect.stringMatching(/^state_topics\.interval_s: /)]);
+  });
+});

@@ -2,8 +2,9 @@
  * The live job under the shipped broker ACL (config/mosquitto/brannock-mere.acl, regenerated here
  * and compared) on a real Mosquitto with a password file (mosquitto_passwd) and no anonymous
  * access: the processor receives scans and publishes presence, `status` works for a read-only
- * viewer, nobody can fake the processor's presence, and acknowledgements carry the identity the
- * broker authenticated (the user is the topic's, never the payload's).
+ * viewer, viewers read the retained state topics and `alarms`, nobody can fake the processor's
+ * presence or its list, and acknowledgements carry the identity the broker authenticated (the user
+ * is the topic's, never the payload's).
  */
 import { execFile } from 'node:child_process';
 import { mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
@@ -104,6 +105,26 @@ describe('the live job under the shipped broker ACL', () => {
     const st = await cli(['status', '-c', runtime, '--wait-ms', '400', '--mqtt-username', 'control-room-display', '--mqtt-password-env', 'SW_TEST_PW_control_room_display']);
     expect(st.err).toBe('');
     expect(st.code).toBe(0);
+  }, 30_000);
+
+  it('viewers read the retained state (group results, open alarms) that only the processor may write', async () => {
+    const viewer = await connectAs('control-room-display');
+    const outcome = await viewer.publishAsync(`${S}/state/alarms`, JSON.stringify({ schema: 'strainward.open-alarms/1', structure: 'brannock-mere', processor: 'fake', at: new Date().toISOString(), count: 0, alarms: [] }), { qos: 1, retain: true })
+      .then(() => 'accepted', (e: { code?: number }) => e.code);
+    expect(outcome).toBe(0x87); // MQTT 5 PUBACK "Not authorized" (MQTT 5.0, 3.4.2.1): only the processor writes the state
+    const seen = new Map<string, { processor: string; group?: string }>();
+    viewer.on('message', (t, p) => seen.set(t, JSON.parse(p.toString('utf8'))));
+    await viewer.subscribeAsync([`${S}/state/alarms`, `${S}/state/groups/+`], { qos: 1 });
+    await waitFor(() => seen.has(`${S}/state/groups/flange-south-mid1`) && seen.has(`${S}/state/alarms`), 'the retained state, read by a viewer', 15_000);
+    await viewer.endAsync();
+    expect(seen.get(`${S}/state/groups/flange-south-mid1`)).toMatchObject({ processor: 'test-acl-live', group: 'flange-south-mid1' });
+    expect(seen.get(`${S}/state/alarms`)).toMatchObject({ processor: 'test-acl-live' });
+    const r = await cli(['alarms', '-c', runtime, '--json', '--mqtt-username', 'control-room-display', '--mqtt-password-env', 'SW_TEST_PW_control_room_display']);
+    expect(r.err).toBe('');
+    expect(r.code).toBe(0);
+    const list = JSON.parse(r.out) as { processor: string; alarms: Array<{ rule: string }> };
+    expect(list.processor).toBe('test-acl-live');
+    expect(list.alarms.map((a) => a.rule)).toContain('steel-von-mises');
   }, 30_000);
 
   it('nobody but the processor can publish its presence: refused (MQTT 5 PUBACK 0x87; 3.1.1 dropped), seen by no subscriber nor status', async () => {

@@ -1,8 +1,8 @@
 /**
  * No secret in any output: `strainward run` as a process against a real Mosquitto (password file,
  * no anonymous access) and VictoriaMetrics (given a database token), with scans, a refused message
- * and an alarm; then `status --json` and a replay with its report. Every file the run and the
- * replay wrote, everything they printed and the retained presence message are searched for the
+ * and an alarm; then `status --json`, `alarms --json` and a replay with its report. Every file the
+ * run and the replay wrote, everything they printed and the retained presence and state are searched for the
  * token and the password in every encoding `secretForms` knows (as is, percent, base64, JSON).
  */
 import { execFile, spawn } from 'node:child_process';
@@ -62,6 +62,7 @@ describe('no secret in any output of a run', () => {
       `database: { url: "${vm.url}", org: o, bucket: b, token_env: SW_TEST_DB_TOKEN, spool: { dir: ${join(out, 'spool')} } }`,
       `capture: { dir: ${join(out, 'capture')} }`,
       'presence: { every_s: 1 }',
+      'state_topics: { interval_s: 0.5 }', // group states within the run, not after 5 s
     ]);
     const text = await readFile(runtime, 'utf8');
     await writeFile(runtime, text.replace(/mqtt: \{ (.*) \}/, 'mqtt: { $1, username: strainward, password_env: SW_TEST_BROKER_PW }'));
@@ -95,19 +96,21 @@ describe('no secret in any output of a run', () => {
     const e = vi.spyOn(process.stderr, 'write').mockImplementation((c) => { statusOut += String(c); return true; });
     try {
       expect(await main(['node', 'strainward', 'status', '-c', runtime, '--wait-ms', '500', '--json'])).toBe(0);
+      expect(await main(['node', 'strainward', 'alarms', '-c', runtime, '--wait-ms', '500', '--json'])).toBe(0);
     } finally {
       o.mockRestore();
       e.mockRestore();
       process.env = saved;
     }
-    // The retained presence message, read as the processor's login.
+    // The retained presence message and current state, read as the processor's login.
     const reader = await mqtt.connectAsync(broker.url, { username: 'strainward', password: PASSWORD, clientId: 'test-secrets-reader' });
     const presence: string[] = [];
     reader.on('message', (_t, p) => presence.push(p.toString('utf8')));
-    await reader.subscribeAsync('strainward/brannock-mere/processor/+', { qos: 1 });
+    await reader.subscribeAsync(['strainward/brannock-mere/processor/+', 'strainward/brannock-mere/state/#'], { qos: 1 });
     await new Promise((r) => setTimeout(r, 300));
     await reader.endAsync();
-    expect(presence.length).toBeGreaterThan(0);
+    const topics = new Set(presence.map((m) => (JSON.parse(m) as { schema?: string }).schema ?? 'presence'));
+    expect([...topics].sort()).toEqual(['presence', 'strainward.group-state/1', 'strainward.open-alarms/1']);
 
     child.kill('SIGTERM');
     expect(await new Promise((r) => child.once('exit', r))).toBe(0);
@@ -127,7 +130,7 @@ describe('no secret in any output of a run', () => {
     const files = (await allFiles(out)).filter((f) => !f.endsWith('run.yaml'));
     expect(files.some((f) => f.includes('deadletters') || f.endsWith('dl.ndjson'))).toBe(true);
     const texts: Array<[string, Buffer]> = [
-      ['run output', Buffer.from(printed)], ['status --json', Buffer.from(statusOut)], ['presence', Buffer.from(presence.join('\n'))],
+      ['run output', Buffer.from(printed)], ['status and alarms --json', Buffer.from(statusOut)], ['presence and state', Buffer.from(presence.join('\n'))],
       ['replay output', Buffer.from(replayOut)],
       ...(await Promise.all(files.map(async (f): Promise<[string, Buffer]> => [f, await readFile(f)]))),
     ];

@@ -1,8 +1,9 @@
 import { Command } from 'commander';
 import { z } from 'zod';
-import { connectOneShot } from '../../adapters/mqtt/one-shot-client.js';
 import { brokerAccess } from '../../app/broker-access.js';
 import { assessPresence, presenceTopic, type PresenceAssessment } from '../../app/presence.js';
+import { statusDetailLines, statusDetails } from '../../app/status-details.js';
+import { connectToRead } from '../broker-client.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { SilentProcessorError, UsageError } from '../errors.js';
 import { parseOptions } from '../options.js';
@@ -20,8 +21,10 @@ export const StatusOptionsSchema = z.strictObject({
 
 /**
  * Reads the retained presence messages of the structure's processors from the broker, prints each
- * one's standing, and fails (exit 4) when none is there or any is offline, stopped, stale or
- * unreadable: a check for a watchdog or the control room, since a silent processor raises no alarm.
+ * one's standing and what it reports (database, spool, dead letters, open alarms, component
+ * faults), and fails (exit 4) when none is there or any is offline, stopped, stale or unreadable: a
+ * check for a watchdog or the control room, since a silent processor raises no alarm. A broker
+ * that cannot be reached is exit 9, never taken for a silent processor.
  */
 export async function checkStatus(raw: unknown, out: (line: string) => void, env: NodeJS.ProcessEnv = process.env): Promise<PresenceAssessment[]> {
   const o = parseOptions(StatusOptionsSchema, raw);
@@ -33,8 +36,8 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
     access.username = o.mqttUsername;
     access.password = o.mqttPasswordEnv ? env[o.mqttPasswordEnv] : undefined;
   }
-  const client = await connectOneShot(access, {
-    clientIdPrefix: `${rc.mqtt.client_id}-status`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.waitMs * 5,
+  const client = await connectToRead(access, {
+    clientIdPrefix: `${rc.mqtt.client_id}-status`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.waitMs * 5, configFile: o.config,
   });
   const received = new Map<string, Uint8Array>(); // the latest per topic
   try {
@@ -46,12 +49,18 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
   }
   const assessed = assessPresence([...received].map(([topic, payload]) => ({ topic, payload })), Date.now())
     .sort((a, b) => a.processor.localeCompare(b.processor));
-  if (o.json) out(JSON.stringify({ structure: structure.structureId, processors: assessed.map(({ message: _m, ...a }) => ({ ...a, age_s: Number.isFinite(a.age_s) ? a.age_s : null })) }));
-  else {
+  if (o.json) {
+    out(JSON.stringify({
+      structure: structure.structureId,
+      processors: assessed.map(({ message, ...a }) => ({ ...a, age_s: Number.isFinite(a.age_s) ? a.age_s : null, details: statusDetails(message) })),
+    }));
+  } else {
     for (const a of assessed) {
       const age = Number.isFinite(a.age_s) ? `${a.age_s.toFixed(1)} s ago` : '';
       out(`${a.processor}  ${a.state}  ${age}${a.healthy ? '' : `  NOT HEALTHY: ${a.reason}`}`);
       for (const w of a.warnings) out(`${a.processor}  WARNING: ${w}`);
+      const details = statusDetails(a.message);
+      if (details !== null) for (const line of statusDetailLines(details)) out(line);
     }
     if (assessed.length === 0) out(`no processor status on ${filter}`);
   }
@@ -67,7 +76,7 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
 /** `strainward status`: is a processor computing this structure right now? */
 export function statusCommand(): Command {
   return new Command('status')
-    .description('check on the broker that the structure\'s processors are online and recent (exit 4 when not)')
+    .description('check on the broker that the structure\'s processors are online and recent (exit 4 when not, 9 when the broker cannot be reached), with their database, spool, dead letters, open alarms and component faults')
     .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON)')
     .option('--wait-ms <ms>', 'how long to collect the retained status messages', '2000')
     .option('--json', 'one JSON object instead of lines')

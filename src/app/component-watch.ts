@@ -1,3 +1,4 @@
+import { readableBytes } from './status-details.js';
 import { asyncScheduler, interval, type SchedulerLike, type Subscription } from 'rxjs';
 import { redactUrl } from '../adapters/secret.js';
 import type { DeliveryRecord } from '../alarms/index.js';
@@ -73,6 +74,3 @@ export function watchComponents(o: {
 }
 
 /** Bytes as KiB below 1 MiB, else MiB, one decimal. */
-function readableBytes(n: number): string {
-  return n < 1024 ** 2 ? `${(n / 1024).toFixed(1)} KiB` : `${(n / 1024 ** 2).toFixed(1)} MiB`;
-}

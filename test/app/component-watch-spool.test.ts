@@ -28,6 +28,6 @@ describe('watchComponents: the database alarm says where the spool stands', () =
     });
     scheduler.schedule(() => watch.stop(), 1500);
     scheduler.flush();
-    expect(changes.map((c) => c.failure)).toEqual(['unreachable: connect ECONNREFUSED; results go to the spool (spool 3.0 MiB, 0.3 % of its limit, 2048.0 MiB free on its disk)']);
+    expect(changes.map((c) => c.failure)).toEqual(['unreachable: connect ECONNREFUSED; results go to the spool (spool 3.0 MiB, 0.3 % of its limit, 2.0 GiB free on its disk)']);
   });
 });

@@ -122,7 +122,7 @@ describe('the database stopped and started under a running processor', () => {
     const { port, dataDir } = vm;
     await vm.stop();
     const lost = await until('the warning line', () => /WARNING database LOST: unreachable: (.*)$/m.exec(log));
-    expect(lost[1]).toMatch(/results go to the spool \(spool \d+\.\d % of its limit, [\d.]+ (KiB|MiB) free on its disk\)/);
+    expect(lost[1]).toMatch(/results go to the spool \(spool [\d.]+ (B|KiB|MiB), \d+\.\d % of its limit, [\d.]+ (KiB|MiB|GiB) free on its disk\)/);
     const raised = await until('the component alarm', () => notices.find((n) => n.transition === 'raised' && n.rule === 'component_fault'));
     expect(raised.subject).toEqual({ kind: 'component', component: 'database' });
     expect(raised.action).toContain('Reported: unreachable');

@@ -22,8 +22,8 @@ export class ScanPublisher {
 
   private constructor(private readonly client: MqttClient, private readonly structureId: string) {}
 
-  static async connect(url: string, structure: CompiledStructure): Promise<ScanPublisher> {
-    const client = await mqtt.connectAsync(url, { clientId: 'faults-loggers', clean: false, protocolVersion: 4, reconnectPeriod: 200, keepalive: 5 });
+  static async connect(url: string, structure: CompiledStructure, clientId = 'faults-loggers'): Promise<ScanPublisher> {
+    const client = await mqtt.connectAsync(url, { clientId, clean: false, protocolVersion: 4, reconnectPeriod: 200, keepalive: 5 });
     const p = new ScanPublisher(client, structure.structureId);
     // A handful of stress states through the mechanics run backwards: readings a real deck could give.
     const groups = structure.groupsByLogger.get(STRAIN_LOGGER) ?? [];

@@ -172,6 +172,8 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
       subject.complete();
     },
     abandon: () => {
+      // Later publishes and close() must not wait on a client that is gone.
+      endedBy ??= new Error('connection abandoned');
       client.end(true);
       subject.complete();
     },

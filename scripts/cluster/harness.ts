@@ -14,6 +14,7 @@ import { readHolders, type HolderRecord } from '../../src/cluster/unit-leases.js
 import { clusterPrefix } from '../../src/app/cluster-run.js';
 import { startEtcdCluster, type EtcdCluster } from '../../test/support/etcd.js';
 import { freePort, startVictoriaMetrics, type VictoriaMetricsServer } from '../../test/support/servers.js';
+import { startNatsCluster, startVmagent, type NatsCluster } from '../../test/support/cluster-servers.js';
 import { startPersistentBroker, type PersistentBroker } from '../faults/broker.js';
 import { ProcessorProcess } from '../faults/processor.js';
 import { ScanPublisher, STRAIN_LOGGER } from '../faults/publisher.js';
@@ -25,8 +26,13 @@ const MAX_HELD_ACKS = 256;
 export interface Harness {
   root: string;
   etcd: EtcdCluster;
-  broker: PersistentBroker;
-  vm: VictoriaMetricsServer;
+  /** One Mosquitto, or a NATS cluster (`nats`). */
+  broker: PersistentBroker | null;
+  nats: NatsCluster | null;
+  /** The database nodes: one written directly, or several behind vmagent (replicated). */
+  vms: VictoriaMetricsServer[];
+  killVm(i: number): void;
+  restartVm(i: number): Promise<void>;
   structures: CompiledStructure[];
   units: string[];
   processors: ProcessorProcess[];
@@ -35,22 +41,54 @@ export interface Harness {
   holders(): Promise<Map<string, HolderRecord | null>>;
   /** Waits until every unit has a holder (at most `timeoutMs`); returns the holders. */
   allHeld(timeoutMs?: number): Promise<Map<string, HolderRecord | null>>;
-  count(structureIndex: number, from: number, to: number): Promise<ScenarioFigures>;
+  count(structureIndex: number, from: number, to: number, vmIndex?: number): Promise<ScenarioFigures>;
   close(): Promise<void>;
 }
 
-export async function startHarness(o: { processors: number; structures: number; etcdMembers: number; leaseTtl_s?: number }): Promise<Harness> {
+export interface HarnessOptions {
+  processors: number;
+  structures: number;
+  etcdMembers: number;
+  leaseTtl_s?: number;
+  broker?: 'mosquitto' | 'nats';
+  /** VictoriaMetrics nodes: 1 is written directly; more are written through vmagent, each getting every point. */
+  databases?: number;
+}
+
+export async function startHarness(o: HarnessOptions): Promise<Harness> {
   const root = await mkdtemp(join(tmpdir(), 'sw-cluster-'));
   const cleanups: Array<() => Promise<void>> = [];
   try {
     const etcd = await startEtcdCluster(o.etcdMembers);
     cleanups.push(() => etcd.stop());
-    await mkdir(join(root, 'broker'));
-    const broker = await startPersistentBroker(join(root, 'broker'), await freePort(), MAX_HELD_ACKS);
-    cleanups.push(() => broker.stop());
-    await mkdir(join(root, 'vm'));
-    const vm = await startVictoriaMetrics({ dataDir: join(root, 'vm') });
-    cleanups.push(() => vm.stop());
+    let broker: PersistentBroker | null = null;
+    let nats: NatsCluster | null = null;
+    if (o.broker === 'nats') {
+      // ack_wait: above the longest time these processors hold a message unacknowledged (well under
+      // 20 s here: no spool backlog, no long temperature wait), and short enough that a killed
+      // holder's unacknowledged messages come back within the test.
+      nats = await startNatsCluster(3, { ackWait_s: 20, maxAckPending: 8 * MAX_HELD_ACKS });
+      cleanups.push(() => nats!.stop());
+    } else {
+      await mkdir(join(root, 'broker'));
+      broker = await startPersistentBroker(join(root, 'broker'), await freePort(), MAX_HELD_ACKS);
+      cleanups.push(() => broker!.stop());
+    }
+    const brokerUrl = nats?.mqttUrls[0] ?? broker!.url;
+    const servers = nats === null ? '' : `servers: [${nats.mqttUrls.map((u) => `"${u}"`).join(', ')}], connect_timeout_ms: 10000, `;
+    const vms: VictoriaMetricsServer[] = [];
+    for (let i = 0; i < (o.databases ?? 1); i++) {
+      await mkdir(join(root, `vm${i}`));
+      const vm = await startVictoriaMetrics({ dataDir: join(root, `vm${i}`) });
+      vms.push(vm);
+      cleanups.push(() => vms[i].stop());
+    }
+    let dbUrl = vms[0].url;
+    if (vms.length > 1) {
+      const agent = await startVmagent(vms.map((v) => v.url));
+      cleanups.push(() => agent.stop());
+      dbUrl = agent.url;
+    }
     const deck = await readFile(resolve('config/brannock-mere.yaml'), 'utf8');
     const structures: CompiledStructure[] = [];
     const entries: string[] = [];
@@ -64,9 +102,9 @@ export async function startHarness(o: { processors: number; structures: number; 
       await writeFile(run, [
         'schema_version: 1',
         `structure: ${file}`,
-        `mqtt: { url: "${broker.url}", client_id: sw-${id}, max_held_acks: ${MAX_HELD_ACKS}, keepalive_s: 5, reconnect_max_ms: 2000, protocol_version: 4 }`,
+        `mqtt: { url: "${brokerUrl}", ${servers}client_id: sw-${id}, max_held_acks: ${MAX_HELD_ACKS}, keepalive_s: 5, reconnect_max_ms: 2000, protocol_version: 4 }`,
         'presence: { every_s: 2 }',
-        `database: { url: "${vm.url}", org: cluster, bucket: cluster, timeout_ms: 3000, max_retries: 2, min_retry_delay_ms: 100, max_retry_delay_ms: 1000,`,
+        `database: { url: "${dbUrl}", org: cluster, bucket: cluster, timeout_ms: 3000, max_retries: 2, min_retry_delay_ms: 100, max_retry_delay_ms: 1000,`,
         '  spool: { dir: spool, limit_bytes: 268435456, policy: block } }',
         'dead_letters: { file: deadletters.ndjson }',
         'alarms: { state_file: alarm-state.json, log_file: alarms.ndjson }',
@@ -96,7 +134,7 @@ export async function startHarness(o: { processors: number; structures: number; 
     }
     const publishers: ScanPublisher[] = [];
     for (const s of structures) {
-      const pub = await ScanPublisher.connect(broker.url, s, `loggers-${s.structureId}`);
+      const pub = await ScanPublisher.connect(brokerUrl, s, `loggers-${s.structureId}`, nats?.mqttUrls);
       publishers.push(pub);
       cleanups.push(() => pub.close());
     }
@@ -105,7 +143,9 @@ export async function startHarness(o: { processors: number; structures: number; 
     cleanups.push(async () => client.close());
     const holders = () => readHolders(client, clusterPrefix(CLUSTER_NAME), units);
     return {
-      root, etcd, broker, vm, structures, units, processors, publishers, logFiles, holders,
+      root, etcd, broker, nats, vms, structures,
+      killVm(i) { process.kill(vms[i].pid, 'SIGKILL'); },
+      async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port }); }, units, processors, publishers, logFiles, holders,
       async allHeld(timeoutMs = 30_000) {
         const deadline = Date.now() + timeoutMs;
         for (;;) {
@@ -115,10 +155,10 @@ export async function startHarness(o: { processors: number; structures: number; 
           await new Promise((r) => setTimeout(r, 50));
         }
       },
-      count: (i, from, to) => {
+      count: (i, from, to, vmIndex = 0) => {
         const s = structures[i];
         const groups = (s.groupsByLogger.get(STRAIN_LOGGER) ?? []).map((g) => g.config.id);
-        return countScenario(vm, s.structureId, publishers[i].published, from, to, s.structureId, STRAIN_LOGGER, groups);
+        return countScenario(vms[vmIndex], s.structureId, publishers[i].published, from, to, s.structureId, STRAIN_LOGGER, groups);
       },
       async close() {
         while (cleanups.length > 0) await cleanups.pop()!().catch(() => undefined);

@@ -7,13 +7,13 @@ export class ProcessorProcess {
   private readonly log: WriteStream;
   starts = 0;
 
-  constructor(private readonly runtimeFile: string, logFile: string, private readonly env: NodeJS.ProcessEnv = process.env) {
+  constructor(private readonly runtimeFile: string, logFile: string, private readonly env: NodeJS.ProcessEnv = process.env, private readonly args = ['run', '-c', runtimeFile]) {
     this.log = createWriteStream(logFile, { flags: 'a' });
   }
 
   /** Starts it and waits for its `started` log line (at most 30 s). */
   async start(): Promise<void> {
-    const child = spawn(process.execPath, ['bin/strainward.mjs', 'run', '-c', this.runtimeFile], { stdio: ['ignore', 'pipe', 'pipe'], env: this.env });
+    const child = spawn(process.execPath, ['bin/strainward.mjs', ...this.args], { stdio: ['ignore', 'pipe', 'pipe'], env: this.env });
     this.child = child;
     this.starts++;
     let text = '';

@@ -1,4 +1,5 @@
 import mqtt, { type MqttClient } from 'mqtt';
+import { serverList } from '../../src/adapters/mqtt/options.js';
 import type { CompiledStructure } from '../../src/config/compile.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 
@@ -22,8 +23,8 @@ export class ScanPublisher {
 
   private constructor(private readonly client: MqttClient, private readonly structureId: string) {}
 
-  static async connect(url: string, structure: CompiledStructure): Promise<ScanPublisher> {
-    const client = await mqtt.connectAsync(url, { clientId: 'faults-loggers', clean: false, protocolVersion: 4, reconnectPeriod: 200, keepalive: 5 });
+  static async connect(url: string, structure: CompiledStructure, clientId = 'faults-loggers', servers?: string[]): Promise<ScanPublisher> {
+    const client = await mqtt.connectAsync(url, { ...serverList(servers), connectTimeout: 10_000, clientId, clean: false, protocolVersion: 4, reconnectPeriod: 200, keepalive: 5 });
     const p = new ScanPublisher(client, structure.structureId);
     // A handful of stress states through the mechanics run backwards: readings a real deck could give.
     const groups = structure.groupsByLogger.get(STRAIN_LOGGER) ?? [];

@@ -12,6 +12,8 @@ export function brokerAccess(rc: RuntimeConfig, baseDir: string, env: NodeJS.Pro
   const file = (f: string | undefined) => (f === undefined ? undefined : resolve(baseDir, f));
   return {
     url: rc.mqtt.url,
+    ...(rc.mqtt.servers ? { servers: rc.mqtt.servers } : {}),
+    connectTimeout_ms: rc.mqtt.connect_timeout_ms,
     username: rc.mqtt.username,
     password: rc.mqtt.password_env ? env[rc.mqtt.password_env] : undefined,
     ...(t ? { tls: { caFile: file(t.ca_file), certFile: file(t.cert_file), keyFile: file(t.key_file), rejectUnauthorized: t.reject_unauthorized } } : {}),

@@ -10,7 +10,8 @@ import { ackSubscription, ackTopic, ackUserMatcher, ackVerdictTopic, parseAckPay
 import type { ComponentFault } from '../alarms/types.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
-import { compileTopicPattern, parseTopic, subscriptionFilter } from '../ingest/topic.js';
+import { compileTopicPattern, parseTopic } from '../ingest/topic.js';
+import { commandAlarmId, intakeFilters, ownsAlarm, unitComponent } from '../cluster/unit-topics.js';
 import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -70,7 +71,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const componentFaults$ = new Subject<ComponentFault>();
   // Lines a person must read (alarms, losses and returns, refusals, a filling spool): warnings.
   const warn = deps.warn ?? deps.log;
-  const componentFault = (component: string, failure: string | null): void => {
+  const componentFault = (part: string, failure: string | null): void => {
+    const component = unitComponent(part, loaded.unit);
     warn(failure === null ? `${component}_writable` : `${component}_unwritable`, failure === null ? {} : { reason: failure });
     componentFaults$.next({ type: 'component', component, failure, atMs: deps.now() });
   };
@@ -99,7 +101,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const watch = watchComponents({
     report: (c) => {
       warn(c.event, { component: c.component, reason: c.failure ?? undefined, spoolFillRatio: influx?.status().spoolFillRatio ?? undefined, spoolBytes: influx?.status().spoolBytes ?? undefined });
-      componentFaults$.next({ type: 'component', component: c.component, failure: c.failure, atMs: deps.now() });
+      componentFaults$.next({ type: 'component', component: unitComponent(c.component, loaded.unit), failure: c.failure, atMs: deps.now() });
     },
     brokerUrl: rc.mqtt.url, database: influx === null ? undefined : () => influx.status(), every_ms: 5_000, scheduler: deps.scheduler,
   });
@@ -109,7 +111,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     ...brokerAccess(rc, baseDir), clientId: rc.mqtt.client_id, protocolVersion: rc.mqtt.protocol_version, fallbackToV311: rc.mqtt.fallback_to_v311,
     keepalive_s: rc.mqtt.keepalive_s, sessionExpiry_s: rc.mqtt.session_expiry_s,
     reconnectInitial_ms: rc.mqtt.reconnect_initial_ms, reconnectMax_ms: rc.mqtt.reconnect_max_ms, maxHeldAcks: rc.mqtt.max_held_acks,
-    subscriptions: [subscriptionFilter(topicPattern, structure.structureId), ...(commandTopic === null ? [] : [commandTopic]), ...(rezeroStart === null ? [] : [rezeroStart.subscription])],
+    subscriptions: [...intakeFilters(topicPattern, structure.structureId, loaded.unit?.loggers), ...(commandTopic === null ? [] : [commandTopic]), ...(rezeroStart === null ? [] : [rezeroStart.subscription])],
   }, { now: deps.now, log: (event, detail) => { watch.brokerEvent(event); deps.log(event, detail); }, warn: deps.warn });
   // The processor's own publishes (presence and its last will, alarms, dead-letter copies) on a
   // connection of their own: their PUBACKs never queue behind scans the intake has stopped reading
@@ -158,6 +160,13 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     : { ...m, ack: () => { capture.durable().then(() => m.ack(), () => {}); } });
   const inbound$ = connectable(connection.messages$.pipe(map(afterCapture)), { connector: () => new Subject<InboundMessage>(), resetOnDisconnect: false });
   const isCommand = (m: InboundMessage): boolean => commandUser(m.raw.topic) !== null;
+  // A unit answers only for its own alarms: every unit of the structure hears every command.
+  const forThisUnit = (m: InboundMessage): boolean => {
+    if (loaded.unit === undefined) return true;
+    if (ownsAlarm(commandAlarmId(m.raw.payload), structure.structureId, loaded.unit)) return true;
+    m.ack();
+    return false;
+  };
   const inputs$ = merge(
     inbound$.pipe(filter((m) => !isCommand(m) && !isRezero(m)), map((message): PipelineInput<PipelineMessage> => ({ kind: 'message', message }))),
     interval(rc.tick_ms, deps.scheduler ?? asyncScheduler).pipe(map((): PipelineInput<PipelineMessage> => ({ kind: 'tick', nowMs: deps.now() }))),
@@ -174,6 +183,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   };
   const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, merge(inbound$.pipe(
     filter(isCommand),
+    filter(forThisUnit),
     // The command is taken at once: a command lost in a crash is sent again by its user, who
     // waits for the `acknowledged` message; holding it would hold every later PUBACK behind it.
     map((m): AckEvent => {

@@ -5,6 +5,7 @@ import { wrongFileKind } from '../validation/file-kind.js';
 import { problemsFromZod } from '../validation/issues.js';
 import { ConfigError, type CompiledStructure } from './compile.js';
 import { loadStructureFile } from './load.js';
+import type { UnitIdentity } from '../cluster/unit-topics.js';
 import { RuntimeConfigSchema, type RuntimeConfig } from './runtime-schema.js';
 
 /** A runtime file, its structure, and the folder relative paths are resolved against. */
@@ -12,6 +13,11 @@ export interface LoadedRuntime {
   runtime: RuntimeConfig;
   structure: CompiledStructure;
   baseDir: string;
+  /**
+   * A work unit's loggers (src/cluster): the processor subscribes to these loggers' topics only and
+   * answers acknowledgements only for alarms on them; its own parts' faults carry its id. Absent: the whole structure.
+   */
+  unit?: UnitIdentity;
 }
 
 /** Parses a runtime configuration document; throws ConfigError listing every problem. */

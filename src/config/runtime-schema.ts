@@ -14,6 +14,13 @@ export const RuntimeConfigSchema = z.strictObject({
   structure: z.string().min(1),
   mqtt: z.strictObject({
     url: z.string().min(1),
+    /**
+     * A clustered broker: every node's address (`mqtt://host:port`); the client tries them in turn
+     * and moves to another when its node goes. `url` is used for the protocol and TLS.
+     */
+    servers: z.array(z.string().regex(/^(mqtts?|tcp|ssl|tls):\/\/[^/]+$/, 'expected mqtt://host:port')).min(1).optional(),
+    /** How long one connection attempt may take; a clustered broker moving its sessions after a node loss needs 10 s or more. */
+    connect_timeout_ms: duration_ms.default(10_000),
     client_id: z.string().min(1),
     /** Preferred protocol: 5, or 4 (MQTT 3.1.1, e.g. for brokers that refuse 5). */
     protocol_version: z.union([z.literal(5), z.literal(4)]).default(5),

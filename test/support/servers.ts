@@ -40,11 +40,11 @@ export async function freePort(): Promise<number> {
   });
 }
 
-function sleep(ms: number): Promise<void> {
+export function sleep(ms: number): Promise<void> {
   return new Promise((resolve) => setTimeout(resolve, ms));
 }
 
-function acceptsConnections(port: number): Promise<boolean> {
+export function acceptsConnections(port: number): Promise<boolean> {
   return new Promise((resolve) => {
     const socket = connect({ host: LOOPBACK, port });
     socket.once('connect', () => {
@@ -56,7 +56,7 @@ function acceptsConnections(port: number): Promise<boolean> {
 }
 
 /** Polls `ready` every 50 ms until it is true; throws with the server's output after `timeoutMs`. */
-async function waitUntil(ready: () => Promise<boolean>, child: ChildProcess, output: () => string, what: string, timeoutMs = 15_000): Promise<void> {
+export async function waitUntil(ready: () => Promise<boolean>, child: ChildProcess, output: () => string, what: string, timeoutMs = 15_000): Promise<void> {
   const deadline = Date.now() + timeoutMs;
   while (Date.now() < deadline) {
     if (child.exitCode !== null) throw new Error(`${what} exited with code ${child.exitCode}:\n${output()}`);
@@ -67,7 +67,7 @@ async function waitUntil(ready: () => Promise<boolean>, child: ChildProcess, out
   throw new Error(`${what} not ready after ${timeoutMs} ms:\n${output()}`);
 }
 
-function spawnLogged(bin: string, args: string[]): { child: ChildProcess; output: () => string } {
+export function spawnLogged(bin: string, args: string[]): { child: ChildProcess; output: () => string } {
   const child = spawn(bin, args, { stdio: ['ignore', 'pipe', 'pipe'] });
   let log = '';
   const keep = (chunk: Buffer): void => {
@@ -79,7 +79,7 @@ function spawnLogged(bin: string, args: string[]): { child: ChildProcess; output
 }
 
 /** Sends SIGTERM and waits for exit (SIGKILL after 10 s). */
-function stopChild(child: ChildProcess): Promise<void> {
+export function stopChild(child: ChildProcess): Promise<void> {
   if (child.exitCode !== null || child.signalCode !== null) return Promise.resolve();
   return new Promise((resolve) => {
     const killer = setTimeout(() => child.kill('SIGKILL'), 10_000);

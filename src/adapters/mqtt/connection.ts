@@ -4,7 +4,7 @@ import { Observable, Subject } from 'rxjs';
 import type { RawMessage } from '../../model/raw-message.js';
 import { holdPubacks, type IntakeWindowStats } from './intake-window.js';
 import { BrokerLoginRefusedError, loginRefusal } from './login-refused.js';
-import { mqttConnectionOptionsSchema, nextReconnectDelay_ms, type MqttConnectionOptions, type MqttConnectionOptionsInput } from './options.js';
+import { mqttConnectionOptionsSchema, nextReconnectDelay_ms, serverList, type MqttConnectionOptions, type MqttConnectionOptionsInput } from './options.js';
 
 /** A received message and its acknowledgement: call `ack()` once the message is safely handled. */
 export interface InboundMessage {
@@ -94,6 +94,7 @@ export function tlsClientOptions(tls: MqttConnectionOptions['tls']): Pick<IClien
 function clientOptions(o: MqttConnectionOptions, version: 4 | 5): IClientOptions {
   return {
     ...tlsClientOptions(o.tls),
+    ...serverList(o.servers),
     manualConnect: true,
     clientId: o.clientId,
     protocolVersion: version,
@@ -172,6 +173,8 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
       subject.complete();
     },
     abandon: () => {
+      // Later publishes and close() must not wait on a client that is gone.
+      endedBy ??= new Error('connection abandoned');
       client.end(true);
       subject.complete();
     },

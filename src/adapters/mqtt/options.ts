@@ -7,6 +7,8 @@ import { z } from 'zod';
 export const mqttConnectionOptionsSchema = z.strictObject({
   /** Broker address: `mqtt://host:port` or `mqtts://host:port`. */
   url: z.string().regex(/^(mqtts?|tcp|ssl|tls):\/\/[^/]+/, 'expected mqtt://host:port or mqtts://host:port'),
+  /** Every node of a clustered broker; absent: `url` alone. */
+  servers: z.array(z.string().min(1)).optional(),
   /** Fixed client id: the broker keys the persistent session (and the unacked messages) on it. */
   clientId: z.string().min(1, 'a fixed client id is required for a persistent session'),
   /** Preferred protocol: 5, or 4 (= MQTT 3.1.1). */
@@ -57,4 +59,10 @@ export type MqttConnectionOptionsInput = z.input<typeof mqttConnectionOptionsSch
 /** Delay before the next reconnect attempt, ms: `current * factor`, capped at the maximum. Pure. */
 export function nextReconnectDelay_ms(current_ms: number, options: Pick<MqttConnectionOptions, 'reconnectFactor' | 'reconnectMax_ms'>): number {
   return Math.min(options.reconnectMax_ms, Math.round(current_ms * options.reconnectFactor));
+}
+
+/** mqtt.js `servers`: each node's host and port (the protocol of the first url applies to all). */
+export function serverList(servers: readonly string[] | undefined): { servers?: Array<{ host: string; port: number }> } {
+  if (servers === undefined || servers.length === 0) return {};
+  return { servers: servers.map((s) => { const u = new URL(s); return { host: u.hostname, port: Number(u.port || (u.protocol === 'mqtts:' ? 8883 : 1883)) }; }) };
 }

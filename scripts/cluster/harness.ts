@@ -1,0 +1,235 @@
+/**
+ * A whole cluster on loopback for the takeover test and `bench:scale`: etcd members, one broker,
+ * VictoriaMetrics, several copies of the invented deck (each its own structure id, each one work
+ * unit), and N processors `strainward run --cluster` as processes of their own. Every server is a
+ * real one from Debian; nothing listens beyond 127.0.0.1.
+ */
+import { mkdir, mkdtemp, readFile, readdir, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { Etcd3 } from 'etcd3';
+import { loadStructureFile } from '../../src/config/load.js';
+import type { CompiledStructure } from '../../src/config/compile.js';
+import { readHolders, type HolderRecord } from '../../src/cluster/unit-leases.js';
+import { clusterPrefix } from '../../src/app/cluster-run.js';
+import { startEtcdCluster, type EtcdCluster } from '../../test/support/etcd.js';
+import { freePort, startVictoriaMetrics, type VictoriaMetricsServer } from '../../test/support/servers.js';
+import { startNatsCluster, startVmagent, type NatsCluster } from '../../test/support/cluster-servers.js';
+import { startPersistentBroker, type PersistentBroker } from '../faults/broker.js';
+import { ProcessorProcess } from '../faults/processor.js';
+import { ScanPublisher, STRAIN_LOGGER } from '../faults/publisher.js';
+import { countScenario, type ScenarioFigures } from '../faults/count.js';
+
+export const CLUSTER_NAME = 'loopback';
+const MAX_HELD_ACKS = 256;
+
+export interface Harness {
+  root: string;
+  etcd: EtcdCluster;
+  /** One Mosquitto, or a NATS cluster (`nats`). */
+  broker: PersistentBroker | null;
+  nats: NatsCluster | null;
+  /** The database nodes: one written directly, or several behind vmagent (replicated). */
+  vms: VictoriaMetricsServer[];
+  killVm(i: number): void;
+  restartVm(i: number): Promise<void>;
+  structures: CompiledStructure[];
+  units: string[];
+  processors: ProcessorProcess[];
+  publishers: ScanPublisher[];
+  logFiles: string[];
+  holders(): Promise<Map<string, HolderRecord | null>>;
+  /** Waits until every unit has a holder (at most `timeoutMs`); returns the holders. */
+  allHeld(timeoutMs?: number): Promise<Map<string, HolderRecord | null>>;
+  count(structureIndex: number, from: number, to: number, vmIndex?: number): Promise<ScenarioFigures>;
+  close(): Promise<void>;
+}
+
+export interface HarnessOptions {
+  processors: number;
+  structures: number;
+  etcdMembers: number;
+  leaseTtl_s?: number;
+  broker?: 'mosquitto' | 'nats';
+  /** VictoriaMetrics nodes: 1 is written directly; more are written through vmagent, each getting every point. */
+  databases?: number;
+}
+
+export async function startHarness(o: HarnessOptions): Promise<Harness> {
+  const root = await mkdtemp(join(tmpdir(), 'sw-cluster-'));
+  const cleanups: Array<() => Promise<void>> = [];
+  try {
+    const etcd = await startEtcdCluster(o.etcdMembers);
+    cleanups.push(() => etcd.stop());
+    let broker: PersistentBroker | null = null;
+    let nats: NatsCluster | null = null;
+    if (o.broker === 'nats') {
+      // ack_wait: above the longest time these processors hold a message unacknowledged (well under
+      // 20 s here: no spool backlog, no long temperature wait), and short enough that a killed
+      // holder's unacknowledged messages come back within the test.
+      nats = await startNatsCluster(3, { ackWait_s: 20, maxAckPending: 8 * MAX_HELD_ACKS });
+      cleanups.push(() => nats!.stop());
+    } else {
+      await mkdir(join(root, 'broker'));
+      broker = await startPersistentBroker(join(root, 'broker'), await freePort(), MAX_HELD_ACKS);
+      cleanups.push(() => broker!.stop());
+    }
+    const brokerUrl = nats?.mqttUrls[0] ?? broker!.url;
+    const servers = nats === null ? '' : `servers: [${nats.mqttUrls.map((u) => `"${u}"`).join(', ')}], connect_timeout_ms: 10000, `;
+    const vms: VictoriaMetricsServer[] = [];
+    for (let i = 0; i < (o.databases ?? 1); i++) {
+      await mkdir(join(root, `vm${i}`));
+      const vm = await startVictoriaMetrics({ dataDir: join(root, `vm${i}`) });
+      vms.push(vm);
+      cleanups.push(() => vms[i].stop());
+    }
+    let dbUrl = vms[0].url;
+    if (vms.length > 1) {
+      const agent = await startVmagent(vms.map((v) => v.url));
+      cleanups.push(() => agent.stop());
+      dbUrl = agent.url;
+    }
+    const deck = await readFile(resolve('config/brannock-mere.yaml'), 'utf8');
+    const structures: CompiledStructure[] = [];
+    const entries: string[] = [];
+    for (let i = 0; i < o.structures; i++) {
+      const id = `deck-${String.fromCharCode(97 + i)}`;
+      const file = join(root, `${id}.yaml`);
+      // The invented deck under another id: the same instruments, another structure.
+      await writeFile(file, deck.replace(/^  id: brannock-mere$/m, `  id: ${id}`));
+      structures.push(await loadStructureFile(file));
+      const run = join(root, `${id}.run.yaml`);
+      await writeFile(run, [
+        'schema_version: 1',
+        `structure: ${file}`,
+        `mqtt: { url: "${brokerUrl}", ${servers}client_id: sw-${id}, max_held_acks: ${MAX_HELD_ACKS}, keepalive_s: 5, reconnect_max_ms: 2000, protocol_version: 4 }`,
+        'presence: { every_s: 2 }',
+        `database: { url: "${dbUrl}", org: cluster, bucket: cluster, timeout_ms: 3000, max_retries: 2, min_retry_delay_ms: 100, max_retry_delay_ms: 1000,`,
+        '  spool: { dir: spool, limit_bytes: 268435456, policy: block } }',
+        'dead_letters: { file: deadletters.ndjson }',
+        'alarms: { state_file: alarm-state.json, log_file: alarms.ndjson }',
+      ].join('\n') + '\n');
+      entries.push(`  - runtime: ${run}`);
+    }
+    const clusterFile = join(root, 'cluster.yaml');
+    await writeFile(clusterFile, [
+      'schema_version: 1',
+      'cluster:',
+      `  name: ${CLUSTER_NAME}`,
+      `  etcd: { endpoints: [${etcd.endpoints.map((e) => `"${e}"`).join(', ')}], lease_ttl_s: ${o.leaseTtl_s ?? 2} }`,
+      `  shared_dir: ${join(root, 'shared')}`,
+      '  reconcile_every_ms: 200',
+      'units:',
+      ...entries,
+    ].join('\n') + '\n');
+    const logFiles: string[] = [];
+    const processors: ProcessorProcess[] = [];
+    for (let i = 0; i < o.processors; i++) {
+      const logFile = join(root, `p${i + 1}.log`);
+      logFiles.push(logFile);
+      const p = new ProcessorProcess(clusterFile, logFile, process.env, ['run', '--cluster', clusterFile, '--processor-id', `p${i + 1}`, '--log-format', 'json', '--status-every', '0']);
+      await p.start();
+      processors.push(p);
+      cleanups.push(() => p.close());
+    }
+    const publishers: ScanPublisher[] = [];
+    for (const s of structures) {
+      const pub = await ScanPublisher.connect(brokerUrl, s, `loggers-${s.structureId}`, nats?.mqttUrls);
+      publishers.push(pub);
+      cleanups.push(() => pub.close());
+    }
+    const units = structures.map((s) => `${s.structureId}/${s.structureId}`);
+    const client = new Etcd3({ hosts: etcd.endpoints, dialTimeout: 2000 });
+    cleanups.push(async () => client.close());
+    const holders = () => readHolders(client, clusterPrefix(CLUSTER_NAME), units);
+    return {
+      root, etcd, broker, nats, vms, structures,
+      killVm(i) { process.kill(vms[i].pid, 'SIGKILL'); },
+      async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port }); }, units, processors, publishers, logFiles, holders,
+      async allHeld(timeoutMs = 30_000) {
+        const deadline = Date.now() + timeoutMs;
+        for (;;) {
+          const h = await holders().catch(() => null);
+          if (h !== null && [...h.values()].every((v) => v !== null)) return h;
+          if (Date.now() > deadline) throw new Error(`not every unit held after ${timeoutMs} ms: ${JSON.stringify(h === null ? null : Object.fromEntries(h))}`);
+          await new Promise((r) => setTimeout(r, 50));
+        }
+      },
+      count: (i, from, to, vmIndex = 0) => {
+        const s = structures[i];
+        const groups = (s.groupsByLogger.get(STRAIN_LOGGER) ?? []).map((g) => g.config.id);
+        return countScenario(vms[vmIndex], s.structureId, publishers[i].published, from, to, s.structureId, STRAIN_LOGGER, groups);
+      },
+      async close() {
+        while (cleanups.length > 0) await cleanups.pop()!().catch(() => undefined);
+        await rm(root, { recursive: true, force: true });
+      },
+    };
+  } catch (err) {
+    while (cleanups.length > 0) await cleanups.pop()!().catch(() => undefined);
+    await rm(root, { recursive: true, force: true });
+    throw err;
+  }
+}
+
+/** One processor's hold of one unit, from its own log: [acquired, released or lost or killed]. */
+export interface HoldSpan { unit: string; processor: string; from_ms: number; to_ms: number }
+
+/**
+ * Every hold, from the processors' logs (pino `time`, the machine's one clock). A hold starts at
+ * `unit_acquired` (before the unit connects) and ends at `unit_stopped` (after it disconnected) or
+ * at the process's kill time when it never logged one.
+ */
+export async function holdSpans(logFiles: readonly string[], killedAt: ReadonlyMap<string, number>): Promise<HoldSpan[]> {
+  const spans: HoldSpan[] = [];
+  for (const file of logFiles) {
+    const open = new Map<string, HoldSpan>();
+    const text = await readFile(file, 'utf8').catch(() => '');
+    for (const line of text.split('\n')) {
+      if (!line.startsWith('{')) continue;
+      const e = JSON.parse(line) as { event?: string; unit?: string; processor?: string; time: number };
+      if (e.unit === undefined || e.processor === undefined) continue;
+      if (e.event === 'unit_acquired') open.set(e.unit, { unit: e.unit, processor: e.processor, from_ms: e.time, to_ms: Number.POSITIVE_INFINITY });
+      if (e.event === 'unit_stopped' || e.event === 'unit_start_failed') {
+        const s = open.get(e.unit);
+        if (s) { s.to_ms = e.time; spans.push(s); open.delete(e.unit); }
+      }
+    }
+    for (const s of open.values()) spans.push({ ...s, to_ms: killedAt.get(s.processor) ?? Number.POSITIVE_INFINITY });
+  }
+  return spans;
+}
+
+/** Pairs of holds of one unit by two processors that overlap in time. */
+export function doubleHolds(spans: readonly HoldSpan[]): Array<[HoldSpan, HoldSpan]> {
+  const out: Array<[HoldSpan, HoldSpan]> = [];
+  for (let i = 0; i < spans.length; i++) {
+    for (let j = i + 1; j < spans.length; j++) {
+      const a = spans[i];
+      const b = spans[j];
+      if (a.unit === b.unit && a.processor !== b.processor && a.from_ms < b.to_ms && b.from_ms < a.to_ms) out.push([a, b]);
+    }
+  }
+  return out;
+}
+
+/** Alarm ids raised more than once, over every unit's alarm log on the shared volume. */
+export async function alarmsRaisedTwice(root: string): Promise<string[]> {
+  const raised = new Map<string, number>();
+  const walk = async (dir: string): Promise<void> => {
+    for (const e of await readdir(dir, { withFileTypes: true }).catch(() => [])) {
+      const p = join(dir, e.name);
+      if (e.isDirectory()) await walk(p);
+      else if (e.name === 'alarms.ndjson') {
+        for (const line of (await readFile(p, 'utf8')).split('\n')) {
+          if (line === '') continue;
+          const r = JSON.parse(line) as { kind?: string; transition?: string; alarm_id?: string; alarm?: { id?: string } };
+          const id = r.alarm_id ?? r.alarm?.id;
+          if (id !== undefined && (r.transition === 'raised' || r.kind === 'raised')) raised.set(id, (raised.get(id) ?? 0) + 1);
+        }
+      }
+    }
+  };
+  await walk(join(root, 'shared'));
+  return [...raised].filter(([, n]) => n > 1).map(([id]) => id);
+}

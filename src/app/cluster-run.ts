@@ -1,0 +1,59 @@
+import { hostname } from 'node:os';
+import { Etcd3 } from 'etcd3';
+import type { LoadedCluster } from '../cluster/load-cluster.js';
+import { UnitLeases } from '../cluster/unit-leases.js';
+import { startLive, type LiveDeps, type LiveProcessor } from './live.js';
+
+export interface ClusterProcessor {
+  processorId: string;
+  /** Units this processor holds now, with their live status. */
+  status(): Record<string, unknown>;
+  /** Hands every unit back (drained, acknowledged) and leaves the cluster. */
+  stop(): Promise<void>;
+}
+
+/** etcd key prefix of a cluster. */
+export const clusterPrefix = (name: string): string => `strainward/${name}/`;
+
+/**
+ * The processor as a cluster member: it holds the work units its leases give it, each one a live
+ * job of its own (src/app/live.ts, unchanged) on the unit's client id and files.
+ */
+export async function startClusterProcessor(cluster: LoadedCluster, deps: LiveDeps & { processorId?: string }): Promise<ClusterProcessor> {
+  const processorId = deps.processorId ?? `${hostname()}-${process.pid}`;
+  const byKey = new Map(cluster.units.map((u) => [u.key, u]));
+  const running = new Map<string, LiveProcessor>();
+  const etcd = new Etcd3({ hosts: cluster.config.cluster.etcd.endpoints, dialTimeout: 3000 });
+  const leases = new UnitLeases(etcd, {
+    prefix: clusterPrefix(cluster.config.cluster.name), processorId, ttl_s: cluster.config.cluster.etcd.lease_ttl_s,
+    maxUnits: cluster.config.cluster.max_units_per_processor, units: cluster.units.map((u) => u.key),
+    reconcileEvery_ms: cluster.config.cluster.reconcile_every_ms, now: deps.now,
+  }, {
+    start: async (key) => {
+      const live = await startLive(byKey.get(key)!.loaded, deps);
+      running.set(key, live);
+      deps.log('unit_started', { unit: key, processor: processorId });
+    },
+    drop: (key) => {
+      const live = running.get(key);
+      live?.connection.abandon();
+      live?.outbound.abandon();
+    },
+    stop: async (key, how) => {
+      const live = running.get(key);
+      running.delete(key);
+      await live?.stop();
+      deps.log('unit_stopped', { unit: key, processor: processorId, how });
+    },
+    log: (event, detail) => (event === 'unit_lost' || event.endsWith('_failed') ? (deps.warn ?? deps.log) : deps.log)(event, detail),
+  });
+  await leases.start();
+  return {
+    processorId,
+    status: () => Object.fromEntries([...leases.holdings()].map(([key, since]) => [key, { since_ms: since, ...(running.get(key)?.status() ?? {}) }])),
+    async stop() {
+      await leases.stop();
+      etcd.close();
+    },
+  };
+}

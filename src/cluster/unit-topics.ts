@@ -1,0 +1,52 @@
+import { formatTopic, subscriptionFilter, type TopicPattern } from '../ingest/topic.js';
+
+/** The intake's topic filters: every logger of the structure, or a unit's loggers one by one. */
+export function intakeFilters(pattern: TopicPattern, structureId: string, unitLoggers: readonly string[] | undefined): string[] {
+  return unitLoggers === undefined ? [subscriptionFilter(pattern, structureId)] : unitLoggers.map((l) => formatTopic(pattern, structureId, l));
+}
+
+/** A unit's own part (spool, capture, database...) named with the unit, so two units' faults are two alarms. */
+export function unitComponent(component: string, unit: { id: string } | undefined): string {
+  return unit === undefined ? component : `${component}@${unit.id}`;
+}
+
+/** The alarm id an acknowledgement command names ('' when the payload says none). */
+export function commandAlarmId(payload: Uint8Array): string {
+  try {
+    const v: unknown = JSON.parse(Buffer.from(payload).toString('utf8'));
+    return typeof v === 'object' && v !== null && typeof (v as { alarm_id?: unknown }).alarm_id === 'string' ? (v as { alarm_id: string }).alarm_id : '';
+  } catch {
+    return '';
+  }
+}
+
+/** What a unit is, as the live job needs it (src/config/load-runtime.ts `unit`). */
+export interface UnitIdentity {
+  id: string;
+  loggers: readonly string[];
+  groups: readonly string[];
+  /** The structure's first unit also answers commands naming nothing any unit has. */
+  first: boolean;
+  /** Every logger and group of the whole structure. */
+  structureLoggers: readonly string[];
+  structureGroups: readonly string[];
+}
+
+/**
+ * Whether an alarm belongs to a unit. Alarm ids are `<structure>:<rule>:<subject>:<seq>` with the
+ * subject `g:<group>`, `c:<logger>/<channel>`, `l:<logger>` or `p:<component>`
+ * (src/alarms/engine/lifecycle.ts). A group is the unit's when its loggers are; a command whose id
+ * names no subject of any unit (a typo, an unknown id) is answered by the structure's first unit,
+ * so that every command gets exactly one verdict.
+ */
+export function ownsAlarm(alarmId: string, structureId: string, unit: UnitIdentity): boolean {
+  const rest = alarmId.startsWith(`${structureId}:`) ? alarmId.slice(structureId.length + 1) : null;
+  const m = rest === null ? null : /^[^:]+:([gclp]):(.+):\d+$/.exec(rest);
+  if (m === null) return unit.first;
+  const [, kind, subject] = m;
+  const logger = kind === 'c' ? subject.split('/')[0] : subject;
+  if (kind === 'c' || kind === 'l') return unit.loggers.includes(logger) || (unit.first && !unit.structureLoggers.includes(logger));
+  if (kind === 'g') return unit.groups.includes(subject) || (unit.first && !unit.structureGroups.includes(subject));
+  const at = subject.lastIndexOf('@');
+  return at < 0 ? unit.first : subject.slice(at + 1) === unit.id;
+}

@@ -177,8 +177,8 @@ export interface HoldSpan { unit: string; processor: string; from_ms: number; to
 
 /**
  * Every hold, from the processors' logs (pino `time`, the machine's one clock). A hold starts at
- * `unit_acquired` (before the unit connects) and ends at `unit_stopped` (after it disconnected) or
- * at the process's kill time when it never logged one.
+ * `unit_acquired` (before the unit connects) and ends at `unit_stopped` (after it disconnected),
+ * `unit_lost` (its connections dropped at once) or at the process's kill time when it logged neither.
  */
 export async function holdSpans(logFiles: readonly string[], killedAt: ReadonlyMap<string, number>): Promise<HoldSpan[]> {
   const spans: HoldSpan[] = [];
@@ -190,7 +190,8 @@ export async function holdSpans(logFiles: readonly string[], killedAt: ReadonlyM
       const e = JSON.parse(line) as { event?: string; unit?: string; processor?: string; time: number };
       if (e.unit === undefined || e.processor === undefined) continue;
       if (e.event === 'unit_acquired') open.set(e.unit, { unit: e.unit, processor: e.processor, from_ms: e.time, to_ms: Number.POSITIVE_INFINITY });
-      if (e.event === 'unit_stopped' || e.event === 'unit_start_failed') {
+      // `unit_lost` is logged right after the unit's connections were dropped: the hold ends there.
+      if (e.event === 'unit_stopped' || e.event === 'unit_lost' || e.event === 'unit_start_failed') {
         const s = open.get(e.unit);
         if (s) { s.to_ms = e.time; spans.push(s); open.delete(e.unit); }
       }

@@ -70,8 +70,14 @@ export function unitStructureConfig(c: StructureConfig, loggers: ReadonlySet<str
   };
   const details = c.fatigue?.details.filter((d) => (d.group !== undefined ? groupIds.has(d.group) : d.gauge !== undefined && gaugeIds.has(d.gauge))) ?? [];
   const fatigue = c.fatigue === undefined || details.length === 0 ? undefined : { ...c.fatigue, details };
+  // Who may rezero what: kept for the groups and zones this unit has.
+  const allowed = c.rezero?.allowed
+    .map((a) => ({ ...a, groups: a.groups.filter((id) => groupIds.has(id)), zones: a.zones.filter((z) => zones.has(z)) }))
+    .filter((a) => a.groups.length + a.zones.length > 0) ?? [];
+  const rezero = c.rezero === undefined || allowed.length === 0 ? undefined : { ...c.rezero, allowed };
   return {
     ...c,
+    rezero,
     loggers: c.loggers.filter((l) => loggers.has(l.id)),
     temperature_sensors: c.temperature_sensors.filter((t) => loggers.has(t.channel.logger)),
     gauges,

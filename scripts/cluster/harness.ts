@@ -25,6 +25,7 @@ const MAX_HELD_ACKS = 256;
 
 export interface Harness {
   root: string;
+  clusterFile: string;
   etcd: EtcdCluster;
   /** One Mosquitto, or a NATS cluster (`nats`). */
   broker: PersistentBroker | null;
@@ -143,7 +144,7 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
     cleanups.push(async () => client.close());
     const holders = () => readHolders(client, clusterPrefix(CLUSTER_NAME), units);
     return {
-      root, etcd, broker, nats, vms, structures,
+      root, clusterFile, etcd, broker, nats, vms, structures,
       killVm(i) { process.kill(vms[i].pid, 'SIGKILL'); },
       async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port }); }, units, processors, publishers, logFiles, holders,
       async allHeld(timeoutMs = 30_000) {

@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { checkClusterStatus } from '../../src/cli/commands/cluster-status.js';
 import { alarmsRaisedTwice, doubleHolds, holdSpans, startHarness, type Harness, type HarnessOptions } from '../../scripts/cluster/harness.js';
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
@@ -80,7 +81,7 @@ async function run(h: Harness, faults: Fault[], crashed: { vm: number; window: (
   expect(await alarmsRaisedTwice(h.root)).toEqual([]);
 }
 
-function cluster(name: string, o: HarnessOptions, faults: (h: Harness, crash: { at: number; back: number }) => Fault[], crashedVm: number | null) {
+function cluster(name: string, o: HarnessOptions, faults: (h: Harness, crash: { at: number; back: number }) => Fault[], crashedVm: number | null, after?: (h: Harness) => Promise<void>) {
   describe(name, () => {
     let h: Harness;
     beforeAll(async () => { h = await startHarness(o); step('harness up'); }, 180_000);
@@ -89,6 +90,7 @@ function cluster(name: string, o: HarnessOptions, faults: (h: Harness, crash: { 
       const crash = { at: 0, back: 0 };
       // What a crashed node may lose: the seconds before its kill it had not yet written, and its downtime.
       await run(h, faults(h, crash), crashedVm === null ? null : { vm: crashedVm, window: () => [crash.at - 10_000, crash.back] });
+      await after?.(h);
     }, 300_000);
   });
 }
@@ -100,7 +102,19 @@ function cluster(name: string, o: HarnessOptions, faults: (h: Harness, crash: { 
  */
 cluster('one Mosquitto: a processor killed, then the etcd leader', { processors: 3, structures: 3, etcdMembers: 3 }, (h) => [
   async () => { h.etcd.kill(await h.etcd.leader()); },
-], null);
+], null, async (h) => {
+  // `status --cluster` lists every unit with its holder; once no processor is left, each unit is named as held by nobody (exit 4).
+  const lines: string[] = [];
+  const units = await checkClusterStatus(h.clusterFile, { json: false, waitMs: 2000 }, (l) => lines.push(l));
+  expect(units.map((u) => u.unit).sort()).toEqual([...h.units].sort());
+  expect(units.every((u) => u.holder !== null && u.age_s! >= 0)).toBe(true);
+  expect(lines.every((l) => / held by p[123] for \d+\.\d s/.test(l))).toBe(true);
+  for (const p of h.processors) await p.kill();
+  await sleep(3 * 2000);
+  const err = await checkClusterStatus(h.clusterFile, { json: true, waitMs: 2000 }, () => {}).then(() => null, (e: Error) => e);
+  expect(err?.name).toBe('SilentProcessorError');
+  expect(err?.message).toBe(`3 of 3 units have no holder: ${h.units.join(', ')}`);
+});
 
 cluster('a 3-node NATS cluster and 2 VictoriaMetrics nodes behind vmagent: a processor, a NATS node, a database node, the etcd leader killed',
   { processors: 3, structures: 3, etcdMembers: 3, broker: 'nats', databases: 2 }, (h, crash) => [

@@ -7,9 +7,12 @@ import { connectToRead } from '../broker-client.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { SilentProcessorError, UsageError } from '../errors.js';
 import { parseOptions } from '../options.js';
+import { checkClusterStatus } from './cluster-status.js';
 
 export const StatusOptionsSchema = z.strictObject({
-  config: z.string().min(1),
+  config: z.string().min(1).optional(),
+  /** A cluster file: list every work unit and its holder instead (src/cluster). */
+  cluster: z.string().min(1).optional(),
   /** How long to collect the broker's retained status messages. */
   waitMs: z.coerce.number().int().positive().default(2_000),
   json: z.boolean().default(false),
@@ -17,7 +20,7 @@ export const StatusOptionsSchema = z.strictObject({
   mqttUsername: z.string().min(1).optional(),
   /** Environment variable holding that login's broker password. */
   mqttPasswordEnv: z.string().min(1).optional(),
-});
+}).refine((o) => (o.config === undefined) !== (o.cluster === undefined), { message: 'give either --config or --cluster', path: ['config'] });
 
 /**
  * Reads the retained presence messages of the structure's processors from the broker, prints each
@@ -28,7 +31,7 @@ export const StatusOptionsSchema = z.strictObject({
  */
 export async function checkStatus(raw: unknown, out: (line: string) => void, env: NodeJS.ProcessEnv = process.env): Promise<PresenceAssessment[]> {
   const o = parseOptions(StatusOptionsSchema, raw);
-  const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config);
+  const { runtime: rc, structure, baseDir } = await loadRuntimeFile(o.config!);
   const filter = presenceTopic(rc.presence.topic, structure.structureId, '+');
   if (filter === null) throw new UsageError(`${o.config}: presence.topic is empty, so processors publish no status to check`);
   const access = brokerAccess(rc, baseDir, env);
@@ -37,7 +40,7 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
     access.password = o.mqttPasswordEnv ? env[o.mqttPasswordEnv] : undefined;
   }
   const client = await connectToRead(access, {
-    clientIdPrefix: `${rc.mqtt.client_id}-status`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.waitMs * 5, configFile: o.config,
+    clientIdPrefix: `${rc.mqtt.client_id}-status`, protocolVersion: rc.mqtt.protocol_version, timeoutMs: o.waitMs * 5, configFile: o.config!,
   });
   const received = new Map<string, Uint8Array>(); // the latest per topic
   try {
@@ -77,10 +80,16 @@ export async function checkStatus(raw: unknown, out: (line: string) => void, env
 export function statusCommand(): Command {
   return new Command('status')
     .description('check on the broker that the structure\'s processors are online and recent (exit 4 when not, 9 when the broker cannot be reached), with their database, spool, dead letters, open alarms and component faults')
-    .requiredOption('-c, --config <file>', 'runtime configuration (YAML or JSON)')
+    .option('-c, --config <file>', 'runtime configuration (YAML or JSON)')
+    .option('--cluster <file>', 'a cluster file: list every work unit, its holder and since when (exit 4 when one has none)')
     .option('--wait-ms <ms>', 'how long to collect the retained status messages', '2000')
     .option('--json', 'one JSON object instead of lines')
     .option('--mqtt-username <name>', 'broker login to read with, e.g. a read-only viewer (default: the runtime file\'s)')
     .option('--mqtt-password-env <var>', 'environment variable holding that login\'s broker password')
-    .action(async (raw: unknown) => { await checkStatus(raw, (line) => process.stdout.write(`${line}\n`)); });
+    .action(async (raw: unknown) => {
+      const print = (line: string) => process.stdout.write(`${line}\n`);
+      const o = parseOptions(StatusOptionsSchema, raw);
+      if (o.cluster !== undefined) await checkClusterStatus(o.cluster, o, print);
+      else await checkStatus(raw, print);
+    });
 }

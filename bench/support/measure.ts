@@ -47,9 +47,15 @@ export function tsFromPayload(payload: Uint8Array): number {
 
 const MB = 1024 * 1024;
 
-/** Samples process RSS every `every_ms` and keeps the peak (MB). `stop()` ends the timer. */
+/**
+ * Samples process RSS every `every_ms` and keeps the peak (MB), with the peaks of V8's heap (as
+ * reserved, garbage included) and of memory outside it (Buffers, ArrayBuffers): what RSS is made
+ * of. `stop()` ends the timer.
+ */
 export class RssSampler {
   peak_mb = 0;
+  peak_heap_total_mb = 0;
+  peak_external_mb = 0;
   private readonly timer: ReturnType<typeof setInterval>;
 
   constructor(every_ms = 50) {
@@ -58,11 +64,21 @@ export class RssSampler {
     this.timer.unref();
   }
 
-  /** Current RSS, MB (also updates the peak). */
+  /** Current RSS, MB (also updates the peaks). */
   sample(): number {
-    const mb = process.memoryUsage.rss() / MB;
+    const m = process.memoryUsage();
+    const mb = m.rss / MB;
     if (mb > this.peak_mb) this.peak_mb = mb;
+    if (m.heapTotal / MB > this.peak_heap_total_mb) this.peak_heap_total_mb = m.heapTotal / MB;
+    if (m.external / MB > this.peak_external_mb) this.peak_external_mb = m.external / MB;
     return mb;
+  }
+
+  /** Starts a new span of peaks. */
+  resetPeaks(): void {
+    this.peak_mb = 0;
+    this.peak_heap_total_mb = 0;
+    this.peak_external_mb = 0;
   }
 
   stop(): void {

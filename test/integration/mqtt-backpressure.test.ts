@@ -1,11 +1,14 @@
 /**
  * Intake back-pressure against a real Mosquitto (started here on a free loopback port): with
  * maxHeldAcks messages unacknowledged the connection stops reading, and the rest wait at the broker;
- * but an answer the client awaits (PUBACK of its own publish) is always read.
+ * but an answer the client awaits (PUBACK of its own publish) is always read, and a keep-alive
+ * ping outstanding neither makes it read on nor gets the connection given up.
  */
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { AckTicket } from '../../src/adapters/mqtt/ack-queue.js';
 import { connectMqtt, type InboundMessage } from '../../src/adapters/mqtt/connection.js';
+import { holdPubacks } from '../../src/adapters/mqtt/intake-window.js';
 import { startMosquitto } from '../support/servers.js';
 
 describe('MQTT intake back-pressure', () => {
@@ -68,5 +71,56 @@ describe('MQTT intake back-pressure', () => {
     expect(conn.stats().heldAcks).toBe(0);
     await pub.endAsync();
     await conn.close();
+  });
+
+  it('stops at maxHeldAcks with a PINGRESP due (behind the messages on the wire) and is not given up for it', async () => {
+    // mqtt.js's keep-alive runs on this timer (its `timerVariant` option): each tick is half a
+    // keep-alive period; the second since the last restart sends a PINGREQ, the third gives up.
+    let keepaliveStep: (() => void) | null = null;
+    const tick = () => keepaliveStep?.();
+    const timerVariant = {
+      set: (step: () => void) => { keepaliveStep = step; return 1; },
+      clear: () => { keepaliveStep = null; },
+    } as unknown as mqtt.IClientOptions['timerVariant'];
+    const client = await mqtt.connectAsync(broker.url, { clientId: 'test-bp-ping', protocolVersion: 4, keepalive: 10, reconnectPeriod: 0, timerVariant });
+    const errors: string[] = [];
+    client.on('error', (e) => errors.push(e.message));
+    const intake = holdPubacks(client, 50, 4, () => {});
+    const tickets: AckTicket[] = [];
+    client.on('message', (_topic, _payload, packet) => { tickets.push(intake.take(packet.messageId!)); });
+    await client.subscribeAsync('bpp/#', { qos: 1 });
+    const pub = await mqtt.connectAsync(broker.url, { clientId: 'test-bpp-pub' });
+    await Promise.all(Array.from({ length: 500 }, (_, i) => pub.publishAsync(`bpp/${i}`, 'x', { qos: 1 })));
+    await new Promise((r) => setTimeout(r, 300));
+    expect(tickets.length).toBe(50); // stopped at the window, 450 on the wire (2000 allowed in flight)
+
+    // Acknowledge the 50: reading goes on. Before it does, the keep-alive sends its PINGREQ: the
+    // PINGRESP comes behind the 450 messages.
+    for (const t of tickets) t.ack();
+    tick();
+    tick();
+    await new Promise((r) => setTimeout(r, 300));
+    expect(tickets.length).toBe(100); // stopped at the window again, the PINGRESP unread
+    expect(intake.stats.overWindow).toBe(0);
+    // Stopped for five more half-periods: the stop restarted the keep-alive, the PINGREQs sent
+    // meanwhile restart it again; it never reaches the third tick that gives up.
+    for (let k = 0; k < 5; k++) tick();
+    expect(errors).toEqual([]);
+    expect(client.connected).toBe(true);
+
+    const deadline = Date.now() + 15_000;
+    let acked = 0;
+    while (tickets.length < 500 && Date.now() < deadline) {
+      while (acked < tickets.length) tickets[acked++].ack();
+      await new Promise((r) => setTimeout(r, 20));
+    }
+    while (acked < tickets.length) tickets[acked++].ack();
+    expect(tickets.length).toBe(500);
+    expect(intake.stats.peakHeldAcks).toBe(50);
+    expect(intake.stats.overWindow).toBe(0);
+    expect(errors).toEqual([]);
+    expect(client.connected).toBe(true);
+    await pub.endAsync();
+    await client.endAsync();
   });
 });

@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # The one test command: system packages the integration tests need, dependencies, type check, tests.
-# Integration tests start real mosquitto and victoria-metrics servers (Debian packages) on loopback.
+# Integration tests start real mosquitto, victoria-metrics (and its vmagent), etcd and nats-server
+# servers (Debian packages) on loopback.
 set -euo pipefail
 cd "$(dirname "${BASH_SOURCE[0]}")/.."
 
@@ -12,6 +13,8 @@ missing=()
 have mosquitto /usr/sbin/mosquitto || missing+=(mosquitto)
 have victoria-metrics /usr/bin/victoria-metrics || missing+=(victoria-metrics)
 have chromium /usr/bin/chromium || missing+=(chromium) # browser tests: the report in a real page, and its PDF
+have etcd /usr/bin/etcd || missing+=(etcd-server)        # scale-out: work units held by etcd lease
+have nats-server /usr/sbin/nats-server || missing+=(nats-server) # scale-out: a clustered MQTT broker
 
 if [ "${#missing[@]}" -gt 0 ]; then
   if [ "$(id -u)" = "0" ]; then

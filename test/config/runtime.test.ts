@@ -31,7 +31,7 @@ describe('runtime configuration: the broker connection', () => {
   it('resolves TLS files against the runtime file and takes the password from the environment it names', () => {
     const rc = parseRuntimeConfig({ ...base, mqtt: { ...base.mqtt, username: 'proc', password_env: 'SW_PW', tls: { ca_file: 'certs/ca.pem', cert_file: '/abs/c.pem', key_file: 'k.pem' } } }, 'run.yaml');
     expect(brokerAccess(rc, '/etc/strainward', { SW_PW: 'secret' })).toEqual({
-      url: 'mqtts://127.0.0.1:8883', username: 'proc', password: 'secret',
+      url: 'mqtts://127.0.0.1:8883', connectTimeout_ms: 10_000, username: 'proc', password: 'secret',
       tls: { caFile: resolve('/etc/strainward/certs/ca.pem'), certFile: '/abs/c.pem', keyFile: resolve('/etc/strainward/k.pem'), rejectUnauthorized: true },
     });
   });

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { checkClusterStatus } from '../../src/cli/commands/cluster-status.js';
+import { checkClusterStatus } from '../../src/cli/cluster-status.js';
 import { alarmsRaisedTwice, doubleHolds, holdSpans, startHarness, type Harness, type HarnessOptions } from '../../scripts/cluster/harness.js';
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));

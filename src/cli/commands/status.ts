@@ -7,7 +7,7 @@ import { connectToRead } from '../broker-client.js';
 import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { SilentProcessorError, UsageError } from '../errors.js';
 import { parseOptions } from '../options.js';
-import { checkClusterStatus } from './cluster-status.js';
+import { checkClusterStatus } from '../cluster-status.js';
 
 export const StatusOptionsSchema = z.strictObject({
   config: z.string().min(1).optional(),

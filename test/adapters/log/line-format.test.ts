@@ -84,6 +84,6 @@ describe('makeLogger', () => {
 
   it('the start line names the live page and the metrics endpoint', () => {
     expect(formatLogLine({ level: 30, time: 0, event: 'started', structure: 'brannock-mere', livePage: 'http://127.0.0.1:8480/', metrics: 'http://127.0.0.1:9464/metrics', protocolVersion: 5 }))
-      .toBe('00:00:00.000 INFO    started: structure brannock-mere, live page http://127.0.0.1:8480/, metrics http://127.0.0.1:9464/metrics protocolVersion=5');
+      .toBe('00:00:00.000 INFO    started: structure brannock-mere, live page http://127.0.0.1:8480/, metrics http://127.0.0.1:9464/metrics. protocolVersion=5');
   });
 });

@@ -1,8 +1,8 @@
 import { Etcd3 } from 'etcd3';
-import { clusterPrefix } from '../../app/cluster-run.js';
-import { loadClusterFile } from '../../cluster/load-cluster.js';
-import { readHolders } from '../../cluster/unit-leases.js';
-import { SilentProcessorError } from '../errors.js';
+import { clusterPrefix } from '../app/cluster-run.js';
+import { loadClusterFile } from '../cluster/load-cluster.js';
+import { readHolders } from '../cluster/unit-leases.js';
+import { SilentProcessorError } from './errors.js';
 
 export interface UnitStanding { unit: string; holder: string | null; since: string | null; age_s: number | null }
 

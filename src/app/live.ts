@@ -27,6 +27,7 @@ import { loadWebhookAuth } from './webhook-auth.js';
 import { watchComponents } from './component-watch.js';
 import { deadLetterLog } from './dead-letter-log.js';
 import { transitionLogLines } from './alarm-transition-log.js';
+import { prepareFatigue } from './fatigue-wiring.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -79,6 +80,10 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
+  const fatigue = await prepareFatigue(structure, {
+    statePath: resolve(baseDir, rc.fatigue.state_file), sink, now: deps.now, warn: deps.warn ?? deps.log,
+    onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
+  });
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
@@ -149,6 +154,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     capture?.append(raw); // in the capture too, so a replay reproduces the acknowledgements
     return parseAckPayload(raw.payload, raw.arrivalMs, commandUser(raw.topic) ?? '');
   };
+  const fatigueWiring = fatigue?.attach(processed$) ?? null;
   const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, merge(inbound$.pipe(
     filter(isCommand),
     // The command is taken at once: a command lost in a crash is sent again by its user, who
@@ -160,6 +166,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     }),
   ), pageCommands$.pipe(map(takeCommand))), {
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: outbound.publish, ...alarmFiles,
+    startInputs: [...alarmFiles.startInputs, ...(fatigue?.startInputs ?? [])], fatigue$: fatigueWiring?.alarmInputs$,
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     // Every command gets an answer on its user's verdict topic, refusals included (also in the log).
     onAckVerdict: (v) => {
@@ -197,6 +204,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     lineFiles: lineFiles?.status() ?? null,
     mqtt: connection.stats(),
     alarms: alarmWiring?.counts() ?? null,
+    fatigue: fatigueWiring?.status() ?? null,
   });
   const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();
@@ -220,6 +228,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       writeFailures.stop();
       deadLetterWarnings.stop();
       watch.stop();
+      await fatigueWiring?.close(); // the last snapshot written and the state saved
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await sink.close();
       await capture?.close();

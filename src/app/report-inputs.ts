@@ -11,7 +11,7 @@ export function reportAlarm(t: AlarmTransition): ReportAlarmTransition {
     class: a.alarmClass,
     state: a.state,
     level: a.level,
-    group_id: s.kind === 'group' ? s.groupId : s.kind === 'channel' ? s.groupId ?? undefined : undefined,
+    group_id: s.kind === 'group' || s.kind === 'detail' ? s.groupId : s.kind === 'channel' ? s.groupId ?? undefined : undefined,
     channel: s.kind === 'channel' ? `${s.loggerId}/${s.channelId}` : s.kind === 'logger' ? s.loggerId : undefined,
     quantity: a.quantity,
     value: a.value ?? undefined,

@@ -108,6 +108,10 @@ export const RuntimeConfigSchema = z.strictObject({
     state_file: z.string().min(1),
     log_file: z.string().min(1),
   }).default({ state_file: 'var/alarm-state.json', log_file: 'var/alarms.ndjson' }),
+  /** Where the fatigue counts of the structure's `fatigue` section are kept between runs (rewritten atomically every `write_interval_s` and at stop). */
+  fatigue: z.strictObject({
+    state_file: z.string().min(1),
+  }).default({ state_file: 'var/fatigue-state.json' }),
   /**
    * The live page served by the processor (absent: none). Beyond loopback it needs a token, read from
    * the environment variable `token_env` or the file `token_file` (relative to this file), never from here.

@@ -54,6 +54,10 @@ describe('strainward replay', () => {
     const alarms = points.filter((p) => p.measurement === 'sw_alarm' && p.tags.transition === 'raised' && p.tags.alarm_class === 'structural');
     expect(alarms.map((p) => p.tags.rule)).toContain('steel-von-mises');
     expect(alarms.every((p) => p.tags.run === 'r1')).toBe(true);
+    // Fatigue: every detail's figures at the end of the replay (a 2-minute run crosses no 300 s boundary), tagged with the run.
+    const fatigue = points.filter((p) => p.measurement === 'sw_fatigue' && p.tags.bin_from_MPa === undefined);
+    expect(fatigue.map((p) => p.tags.detail).sort()).toEqual(['flange-north-butt-weld', 'flange-south-cover-plate-end', 'web-north-stiffener-toe']);
+    expect(fatigue.every((p) => p.tags.run === 'r1' && p.fields.monitored_s > 60 && p.fields.cycles > 0)).toBe(true);
     expect(await readdir(a)).toEqual(await readdir(b));
   });
 

@@ -13,7 +13,7 @@ import { replay, type ReplaySummary } from '../../app/replay.js';
 import { ensureParent, openPointSink } from '../../app/sinks.js';
 import { MemorySink } from '../../adapters/memory-sink.js';
 import { renderReport } from '../../report/render-report.js';
-import { reportAlarm, reportLimits } from '../../app/report-inputs.js';
+import { reportAlarm, reportFatigue, reportLimits } from '../../app/report-inputs.js';
 import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
@@ -113,14 +113,16 @@ export function replayCommand(): Command {
       const gapSummary = `${gaps.length} capture gap${gaps.length === 1 ? '' : 's'}, ${lost} messages lost${gaps.some((g) => g.messages === null) ? ' (and some of unknown size)' : ''}`;
       if (gaps.length > 0) process.stderr.write(`${gapSummary}: results and alarms of those periods are missing\n`);
       if (o.report) {
-        const second = o.compareStructure
-          ? await run(await loadStructureFile(o.compareStructure), `${o.runTag}-compare`, new MemorySink(), true)
-          : null;
+        const compareStructure = o.compareStructure ? await loadStructureFile(o.compareStructure) : null;
+        const second = compareStructure ? await run(compareStructure, `${o.runTag}-compare`, new MemorySink(), true) : null;
+        const fatigue = structure.fatigue && first.fatigue
+          ? reportFatigue(structure.fatigue, first.fatigue, compareStructure?.fatigue && second?.fatigue ? { cfg: compareStructure.fatigue, snapshot: second.fatigue } : undefined)
+          : undefined;
         const html = renderReport({
           title: `${structure.config.structure.name} – diagnosis report of a replay`, structureId: structure.structureId, generatedAtMs: Date.now(),
           run: { label: `run tag ${o.runTag}, configuration ${o.structure ?? o.config}`, results: first.collected }, alarms: first.transitions.map(reportAlarm),
           limits: reportLimits(structure.alarms), captureGaps: gaps, levels: structure.alarms?.levels,
-          comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
+          comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined, fatigue,
         });
         await writeFile(await ensureParent(o.report), html);
         process.stderr.write(`report written to ${o.report}\n`);

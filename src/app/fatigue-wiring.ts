@@ -1,6 +1,6 @@
 import { Subject, type Observable } from 'rxjs';
 import type { CompiledFatigue } from '../config/compile-fatigue.js';
-import { remainingLifeYears, REMAINING_LIFE_ASSUMPTIONS } from '../fatigue/detail.js';
+import { detailFigures, remainingLifeYears, REMAINING_LIFE_ASSUMPTIONS } from '../fatigue/detail.js';
 import type { PointWriter } from '../model/point.js';
 import { fatigueStage, type FatigueSnapshot, type FatigueStates } from '../pipeline/fatigue-stage.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -43,6 +43,8 @@ export interface FatigueWiring {
   alarmInputs$: Observable<FatigueInput>;
   /** The last snapshot taken; null before the first. */
   latest(): FatigueSnapshot | null;
+  /** Figures now, between snapshots (the live page), at the last trusted result's logger time; null before any. Allocates. */
+  current(): FatigueSnapshot | null;
   counts(): FatigueCounts;
   /** A short per-detail summary for status lines and --json (remaining life with its assumptions). */
   status(): FatigueStatus | null;
@@ -100,6 +102,18 @@ export function attachFatigue(processed$: Observable<FrameOutput<unknown>>, deps
   return {
     alarmInputs$,
     latest: () => latest,
+    current: () => {
+      let at = Number.NEGATIVE_INFINITY;
+      for (const d of deps.cfg.details) {
+        const t = deps.states.get(d.id)?.lastTrustedMs ?? Number.NaN;
+        if (t > at) at = t;
+      }
+      if (!Number.isFinite(at)) return latest;
+      return {
+        kind: 'fatigue', nowMs: at, final: false,
+        details: deps.cfg.details.map((d) => ({ id: d.id, groupId: d.groupId, figures: detailFigures(deps.states.get(d.id)!, d.params) })),
+      };
+    },
     counts: () => ({ snapshots: c.snapshots, errors: { ...c.errors } }),
     status: () => (latest === null ? null : fatigueStatus(latest)),
     close: () => {

@@ -128,6 +128,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     structure, lookups, now: deps.now, log: deps.log, submitCommand: (raw) => pageCommands$.next(raw),
     commandTopic: alarmsCfg === null ? null : (user) => ackTopic(alarmsCfg, structure.structureId, user),
     sample: () => processorSample(decodeCounts, processor.counts, connection.stats().heldAcks, writeErrors, influx?.status() ?? null),
+    fatigue: structure.fatigue ? { cfg: structure.fatigue, current: () => fatigueWiring?.current() ?? null } : undefined,
   });
 
   const stop$ = new Subject<void>();

@@ -40,10 +40,11 @@ function term(k: number, x: number | undefined): number {
  * (pass the restored state file's map to continue after a restart).
  */
 export function fatigueStage<M>(cfg: CompiledFatigue, states: FatigueStates): OperatorFunction<FrameOutput<M>, FatigueSnapshot> {
-  const byGroup = new Map<string, CompiledFatigueDetail[]>();
+  // Each group's details with their states, looked up once per result (the states are mutated, never replaced).
+  const byGroup = new Map<string, { d: CompiledFatigueDetail; s: FatigueDetailState }[]>();
   for (const d of cfg.details) {
-    byGroup.set(d.groupId, [...(byGroup.get(d.groupId) ?? []), d]);
     if (!states.has(d.id)) states.set(d.id, newDetailState(d.params));
+    byGroup.set(d.groupId, [...(byGroup.get(d.groupId) ?? []), { d, s: states.get(d.id)! }]);
   }
   const snapshot = (nowMs: number, final: boolean): FatigueSnapshot => ({
     kind: 'fatigue', nowMs, final,
@@ -70,8 +71,8 @@ export function fatigueStage<M>(cfg: CompiledFatigue, states: FatigueStates): Op
           const ds = byGroup.get(r.groupId);
           if (ds === undefined) continue;
           advance(r.timeMs);
-          for (const d of ds) {
-            const s = states.get(d.id)!;
+          for (let i = 0; i < ds.length; i++) {
+            const { d, s } = ds[i];
             if (r.flags.length > 0) { detailFlagged(s); continue; }
             const x = readStress(d.reader, r.values);
             if (Number.isFinite(x)) detailTrusted(s, d.params, r.timeMs, x);

@@ -4,7 +4,7 @@
  * a spike excursion held at the stop included, and the fatigue counts it saved. Results go to line-protocol files.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { mkdtemp, readFile } from 'node:fs/promises';
+import { mkdtemp, readdir, readFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import mqtt from 'mqtt';
@@ -88,8 +88,10 @@ describe('strainward run, restarted', () => {
     expect(await until(async () => (await alarmLog(logPath)).includes(spike), 15_000)).toBe(true);
     expect(await stop(second.child)).toBe(0);
     await pub.endAsync();
-    // Fatigue continued from the saved state: the scan after the restart added to it.
+    // Fatigue continued from the saved state: the scan after the restart added to it; each stop wrote the figures.
     expect(await fatigueSeen()).toBeGreaterThan(seenBefore);
+    const lines = (await Promise.all((await readdir(join(dir, 'lp'))).map((f) => readFile(join(dir, 'lp', f), 'utf8')))).join('');
+    expect(lines.match(/^sw_fatigue,detail=flange-north-butt-weld,group=flange-north-mid1,structure=brannock-mere,zone=span-1 /gm)).toHaveLength(2);
     // The alarms raised before the stop were restored, not raised again under new or repeated ids.
     const after = await alarmLog(logPath);
     expect(after.filter((t) => t.startsWith('raised ')).sort()).toEqual([...raisedBefore, spike].sort());

@@ -58,9 +58,52 @@ export const RateRuleSchema = z.strictObject({
   action: z.string().min(1),
 });
 
-export const StructuralRuleSchema = z.discriminatedUnion('kind', [LimitRuleSchema, RateRuleSchema]);
+/** Which fatigue details a fatigue rule watches: all of them, or those named (the `fatigue` section's ids). */
+export const FatigueScopeSchema = z.discriminatedUnion('kind', [
+  z.strictObject({ kind: z.literal('structure') }),
+  z.strictObject({ kind: z.literal('details'), detail_ids: z.array(z.string().min(1)).min(1) }),
+]);
+
+const fatigueCommon = {
+  id: z.string().min(1),
+  scope: FatigueScopeSchema.default({ kind: 'structure' }),
+  /** Delays in logger time; the figures are judged once per fatigue snapshot (`fatigue.write_interval_s`). */
+  on_delay_s: NonNegative.default(0),
+  off_delay_s: NonNegative.default(0),
+  action: z.string().min(1),
+};
+
+/**
+ * Fatigue damage rate: a detail's Miner damage per monitored day, over the fatigue section's
+ * `rate_window_h`, above ordered thresholds. A detail whose rate is not known yet is no evidence.
+ */
+export const FatigueDamageRateRuleSchema = z.strictObject({
+  ...fatigueCommon,
+  kind: z.literal('fatigue_damage_rate'),
+  thresholds: z.array(z.strictObject({ level: LevelName, damage_per_day: z.number().finite().positive() })).min(1),
+  /** Hysteresis, damage per day. */
+  clear_margin_per_day: NonNegative.default(0),
+  /** The rate is judged only once taken over at least this much monitored time (a few minutes extrapolated to a day say little), hours. */
+  min_window_h: NonNegative.default(1),
+});
+
+/** Accumulated fatigue damage: a detail's Miner sum (1 = the S-N curve's life used up) above ordered fractions. */
+export const FatigueDamageRuleSchema = z.strictObject({
+  ...fatigueCommon,
+  kind: z.literal('fatigue_damage'),
+  thresholds: z.array(z.strictObject({ level: LevelName, fraction: z.number().finite().positive() })).min(1),
+  /** Hysteresis, fraction of damage. */
+  clear_margin: NonNegative.default(0),
+});
+
+export const StructuralRuleSchema = z.discriminatedUnion('kind', [LimitRuleSchema, RateRuleSchema, FatigueDamageRateRuleSchema, FatigueDamageRuleSchema]);
 
 export type RuleScope = z.infer<typeof RuleScopeSchema>;
 export type LimitRule = z.infer<typeof LimitRuleSchema>;
 export type RateRule = z.infer<typeof RateRuleSchema>;
 export type StructuralRule = z.infer<typeof StructuralRuleSchema>;
+export type FatigueDamageRateRule = z.infer<typeof FatigueDamageRateRuleSchema>;
+export type FatigueDamageRule = z.infer<typeof FatigueDamageRuleSchema>;
+export type FatigueRule = FatigueDamageRateRule | FatigueDamageRule;
+/** Rules judged on each group result (limit and rate), as opposed to the fatigue rules judged on fatigue snapshots. */
+export type ResultRule = LimitRule | RateRule;

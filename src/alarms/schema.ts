@@ -55,8 +55,8 @@ export const AlarmsConfigSchema = z
         if (li < 0) issue([...at, 'level'], `unknown level "${t.level}" (levels: ${cfg.levels.join(', ')})`);
         else if (li <= prevLevel) issue([...at, 'level'], 'thresholds must name levels in increasing severity');
         prevLevel = Math.max(prevLevel, li);
-        const v = 'value' in t ? t.value : t.rate_per_s;
-        const increasing = rule.kind === 'rate' || rule.direction === 'above';
+        const v = 'value' in t ? t.value : 'rate_per_s' in t ? t.rate_per_s : 'damage_per_day' in t ? t.damage_per_day : t.fraction;
+        const increasing = rule.kind !== 'limit' || rule.direction === 'above';
         if (j > 0 && (increasing ? v <= prevValue : v >= prevValue)) {
           issue([...at], increasing ? 'threshold values must increase with severity' : 'thresholds below must decrease with severity');
         }

@@ -43,6 +43,28 @@ export interface RefusedMessage {
   codes: readonly Rejection['code'][];
 }
 
+/**
+ * The fatigue figures of every detail at one logger time (a snapshot of the fatigue stage, on its
+ * write grid): the fatigue rules judge them.
+ */
+export interface FatigueInput {
+  type: 'fatigue';
+  atMs: number;
+  details: readonly FatigueDetailSample[];
+}
+
+export interface FatigueDetailSample {
+  detailId: string;
+  groupId: string;
+  location: string;
+  /** Miner's sum so far (residue as half cycles). */
+  damage: number;
+  /** Over the recent rate window, per monitored day; NaN while unknown. */
+  damagePerDay: number;
+  /** Monitored time the rate is taken over, s. */
+  rateWindowS: number;
+}
+
 /** Everything the alarm engine consumes; each carries its own time. */
 export type AlarmInput =
   | { type: 'result'; result: GroupResult }
@@ -50,7 +72,8 @@ export type AlarmInput =
   | Tick
   | Ack
   | ComponentFault
-  | RefusedMessage;
+  | RefusedMessage
+  | FatigueInput;
 
 /** What the engine needs to know of a group (from the structure configuration). */
 export interface GroupInfo {
@@ -94,7 +117,9 @@ export type AlarmSubject =
   | { kind: 'group'; groupId: string }
   | { kind: 'channel'; loggerId: string; channelId: string; groupId: string | null }
   | { kind: 'logger'; loggerId: string }
-  | { kind: 'component'; component: string };
+  | { kind: 'component'; component: string }
+  /** A fatigue detail (on the group whose results give its stress). */
+  | { kind: 'detail'; detailId: string; groupId: string };
 
 /** Alarm lifecycle: raised -> acknowledged -> cleared; cleared but unacknowledged stays visible. */
 export type AlarmState = 'active_unacknowledged' | 'active_acknowledged' | 'cleared_unacknowledged' | 'closed';

@@ -7,6 +7,7 @@ export function subjectText(s: AlarmSubject): string {
     case 'channel': return `channel ${s.loggerId}/${s.channelId}${s.groupId === null ? '' : ` (group ${s.groupId})`}`;
     case 'logger': return `logger ${s.loggerId}`;
     case 'component': return `component ${s.component}`;
+    case 'detail': return `fatigue detail ${s.detailId} (group ${s.groupId})`;
   }
 }
 

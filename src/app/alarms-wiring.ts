@@ -4,7 +4,7 @@ import {
   type AlarmBatch, type AlarmEngine, type AlarmLog, type AlarmsConfig, type DeliveryRecord, type Publish, type WebhookDeps,
 } from '../alarms/index.js';
 import type { AckVerdict } from '../alarms/ack.js';
-import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, AlarmTransition, TransitionKind } from '../alarms/types.js';
+import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, AlarmTransition, FatigueInput, TransitionKind } from '../alarms/types.js';
 import { redactUrl } from '../adapters/secret.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -53,6 +53,8 @@ export interface AlarmWiringDeps {
   onBatch?: (batch: AlarmBatch, records: readonly DeliveryRecord[]) => void;
   /** Faults of the processor's own parts (live only: a replay has none), as health-alarm inputs. */
   componentFaults$?: Observable<ComponentFault>;
+  /** Fatigue snapshots as alarm inputs (`FatigueWiring.alarmInputs$`), for the fatigue rules. */
+  fatigue$?: Observable<FatigueInput>;
   /** The answer to each acknowledgement command (accepted or refused), once it is persisted. */
   onAckVerdict?: (verdict: AckVerdict) => void;
 }
@@ -199,6 +201,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
     processed$.pipe(concatMap((o) => toAlarmInputs(o).map((input): Item => ({ kind: 'input', input })))),
     acks$.pipe(map((e): Item => (e.ok ? { kind: 'input', input: e.ack } : { kind: 'refusal', refusal: e.refusal }))),
     ...(deps.componentFaults$ === undefined ? [] : [deps.componentFaults$.pipe(map((input): Item => ({ kind: 'input', input })))]),
+    ...(deps.fatigue$ === undefined ? [] : [deps.fatigue$.pipe(map((input): Item => ({ kind: 'input', input })))]),
   )).pipe(takeUntil(closing$)), { connector: () => new Subject<Item>(), resetOnDisconnect: false });
   const batches$ = items$.pipe(
     filter((i): i is Extract<Item, { kind: 'input' }> => i.kind === 'input'),

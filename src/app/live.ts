@@ -34,6 +34,7 @@ import { attachRezero, loadRezeroStart } from './rezero-wiring.js';
 import { metricsAccess, openMetricsEndpoint } from './metrics-endpoint.js';
 import { WriteTally } from './write-tally.js';
 import { startOperatorState } from './operator-state.js';
+import { prepareFatigue } from './fatigue-wiring.js';
 
 export interface LiveDeps {
   /** Wall clock, epoch ms: arrival times and ticks. Injected so tests can drive it. */
@@ -93,6 +94,10 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
+  const fatigue = await prepareFatigue(structure, {
+    statePath: resolve(baseDir, rc.fatigue.state_file), sink, now: deps.now, warn: deps.warn ?? deps.log,
+    onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
+  });
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   const metricsAt = rc.metrics === undefined ? null : await metricsAccess(rc.metrics, baseDir); // its token, too, before connecting
@@ -148,6 +153,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     structure, lookups, now: deps.now, log: deps.log, submitCommand: (raw) => pageCommands$.next(raw),
     commandTopic: alarmsCfg === null ? null : (user) => ackTopic(alarmsCfg, structure.structureId, user),
     sample: () => processorSample(decodeCounts, processor.counts, connection.stats().heldAcks, writeErrors, influx?.status() ?? null),
+    fatigue: structure.fatigue ? { cfg: structure.fatigue, current: () => fatigueWiring?.current() ?? null } : undefined,
   });
 
   const stop$ = new Subject<void>();
@@ -181,6 +187,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     capture?.append(raw); // in the capture too, so a replay reproduces the acknowledgements
     return parseAckPayload(raw.payload, raw.arrivalMs, commandUser(raw.topic) ?? '');
   };
+  const fatigueWiring = fatigue?.attach(processed$) ?? null;
   const alarmWiring: AlarmWiring | null = alarmsCfg === null || alarmFiles === null ? null : attachAlarms(processed$, merge(inbound$.pipe(
     filter(isCommand),
     filter(forThisUnit),
@@ -193,6 +200,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     }),
   ), pageCommands$.pipe(map(takeCommand))), {
     cfg: alarmsCfg, lookups, now: deps.now, sink, publish: outbound.publish, ...alarmFiles,
+    startInputs: [...alarmFiles.startInputs, ...(fatigue?.startInputs ?? [])], fatigue$: fatigueWiring?.alarmInputs$,
     webhookDeps: { authHeader: (channel) => webhookAuth.get(channel) },
     // Every command gets an answer on its user's verdict topic, refusals included (also in the log).
     onAckVerdict: (v) => {
@@ -240,6 +248,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     alarmsDisabled: structure.alarmsDisabled,
     syntheticLoggers: synthetic.list(),
     rezero: rezero?.counts() ?? null,
+    fatigue: fatigueWiring?.status() ?? null,
   });
   const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();
@@ -274,6 +283,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
       writeFailures.stop();
       deadLetterWarnings.stop();
       watch.stop();
+      await fatigueWiring?.close(); // the last snapshot written and the state saved
       await alarmWiring?.close(); // the last transitions are written and delivered before the sink and broker close
       await operator.stop();
       await sink.close();

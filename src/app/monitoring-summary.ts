@@ -83,14 +83,17 @@ export function structureSummary(s: CompiledStructure): StructureSummary {
   };
 }
 
-function scopeText(scope: RuleScope): string {
+function scopeText(scope: RuleScope | { kind: 'details'; detail_ids: string[] }): string {
   if (scope.kind === 'structure') return 'the whole structure';
+  if (scope.kind === 'details') return `fatigue details ${scope.detail_ids.join(', ')}`;
   if (scope.kind === 'zone') return `zone ${scope.zone}`;
   return `groups ${scope.group_ids.join(', ')}`;
 }
 
 function thresholdTexts(rule: StructuralRule): string[] {
   if (rule.kind === 'rate') return rule.thresholds.map((t) => `${t.level}: ${rule.direction} faster than ${t.rate_per_s} per s`);
+  if (rule.kind === 'fatigue_damage_rate') return rule.thresholds.map((t) => `${t.level}: damage above ${t.damage_per_day} per day`);
+  if (rule.kind === 'fatigue_damage') return rule.thresholds.map((t) => `${t.level}: accumulated damage above ${t.fraction}`);
   return rule.thresholds.map((t) => `${t.level}: ${rule.direction === 'above' ? '>' : '<'} ${t.value}`);
 }
 
@@ -104,7 +107,7 @@ function alarmsSummary(a: AlarmsConfig, structureId: string): NonNullable<Struct
   return {
     levels: [...a.levels],
     rules: a.rules.map((r) => ({
-      id: r.id, kind: r.kind, quantity: r.quantity, scope: scopeText(r.scope), thresholds: thresholdTexts(r), on_delay_s: r.on_delay_s, off_delay_s: r.off_delay_s,
+      id: r.id, kind: r.kind, quantity: 'quantity' in r ? r.quantity : r.kind === 'fatigue_damage' ? 'damage' : 'damage_per_day', scope: scopeText(r.scope), thresholds: thresholdTexts(r), on_delay_s: r.on_delay_s, off_delay_s: r.off_delay_s,
     })),
     health: { level: a.health.level, checks },
     recipients: a.recipients.map((r) => ({

@@ -18,6 +18,8 @@ import { replaySource } from './replay-source.js';
 import { applyRezeroRecord } from '../rezero/apply.js';
 import type { RezeroRecord } from '../rezero/schema.js';
 import { rezeroUserMatcher } from '../rezero/topics.js';
+import { prepareFatigue } from './fatigue-wiring.js';
+import type { FatigueSnapshot } from '../pipeline/fatigue-stage.js';
 
 export interface ReplayOptions {
   structure: CompiledStructure;
@@ -44,6 +46,13 @@ export interface ReplayOptions {
   zeroRecords?: readonly RezeroRecord[];
   /** Further consumers of the processed stream, subscribed before it starts. */
   attach?: (processed$: Observable<FrameOutput<PipelineMessage>>) => void;
+  /**
+   * Fatigue state file to continue from and to leave the end state in (absent: the replay counts
+   * from nothing and keeps no state; the live processor's own file is never the default).
+   */
+  fatigueStatePath?: string;
+  /** Warnings of the fatigue state file (reset, kept aside); default: none. */
+  warn?: (event: string, detail: Record<string, unknown>) => void;
 }
 
 export interface ReplaySummary {
@@ -57,6 +66,8 @@ export interface ReplaySummary {
   transitions: AlarmTransition[];
   /** Recorded rezeros installed, and those that do not fit this structure (and why). */
   rezero: { applied: number; skipped: Array<{ id: string; reason: string }> };
+  /** The fatigue figures at the end (null without a `fatigue` section, or when no result came). */
+  fatigue: FatigueSnapshot | null;
 }
 
 /**
@@ -76,9 +87,14 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   }
   const rezeroUser = o.structure.config.rezero ? rezeroUserMatcher(o.structure.config.rezero, o.structure.structureId) : () => null;
   const isRezeroRequest = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && rezeroUser(i.message.raw.topic) !== null;
+  let writeErrors = 0;
+  // Before the source starts: the state file is read first.
+  const fatigue = await prepareFatigue(o.structure, {
+    statePath: o.fatigueStatePath, sink: o.sink, pointTags: { run: o.runTag }, now: Date.now, warn: o.warn ?? (() => {}),
+    onError: () => { writeErrors++; },
+  });
   const collected: GroupResult[] = [];
   let messages = 0;
-  let writeErrors = 0;
   const alarmsCfg = o.structure.alarms;
   const commandUser = alarmsCfg ? ackUserMatcher(alarmsCfg, o.structure.structureId) : () => null;
   const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && commandUser(i.message.raw.topic) !== null;
@@ -96,19 +112,25 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
     decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: o.maxFutureMs,
   }));
   o.attach?.(processed$);
+  const fatigueWiring = fatigue?.attach(processed$) ?? null;
   const transitions: AlarmTransition[] = [];
   let clockMs = 0;
   const wiring = o.alarms && o.structure.alarms
     ? attachAlarms(processed$, acks$, {
       cfg: o.structure.alarms, lookups: alarmLookups(o.structure), now: () => clockMs, sink: o.sink,
       pointTags: { run: o.runTag }, webhook: 'record', onBatch: (b) => { transitions.push(...b.transitions); },
+      startInputs: fatigue?.startInputs, fatigue$: fatigueWiring?.alarmInputs$,
     })
     : null;
   await lastValueFrom(processed$.pipe(
     tap((p) => { if (o.collectResults && p.kind === 'frame') collected.push(...p.results); }),
     writeAndAck(o.sink, { extraTags: { run: o.runTag }, elementStrains: o.elementStrains }, 2048, () => { writeErrors++; }),
   ), { defaultValue: null });
+  await fatigueWiring?.close();
   await wiring?.close();
   await o.sink.close();
-  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions, rezero };
+  return {
+    messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions,
+    fatigue: fatigueWiring?.latest() ?? null, rezero,
+  };
 }

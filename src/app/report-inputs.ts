@@ -1,5 +1,8 @@
 import type { AlarmsConfig, AlarmTransition } from '../alarms/index.js';
-import type { QuantityLimits, ReportAlarmTransition } from '../report/types.js';
+import type { CompiledFatigue } from '../config/compile-fatigue.js';
+import { remainingLifeYears, REMAINING_LIFE_ASSUMPTIONS } from '../fatigue/detail.js';
+import type { FatigueSnapshot } from '../pipeline/fatigue-stage.js';
+import type { QuantityLimits, ReportAlarmTransition, ReportFatigue, ReportFatigueDetail } from '../report/types.js';
 
 /** An alarm transition in the report's shape (the report takes a small local record). Pure. */
 export function reportAlarm(t: AlarmTransition): ReportAlarmTransition {
@@ -11,7 +14,7 @@ export function reportAlarm(t: AlarmTransition): ReportAlarmTransition {
     class: a.alarmClass,
     state: a.state,
     level: a.level,
-    group_id: s.kind === 'group' ? s.groupId : s.kind === 'channel' ? s.groupId ?? undefined : undefined,
+    group_id: s.kind === 'group' || s.kind === 'detail' ? s.groupId : s.kind === 'channel' ? s.groupId ?? undefined : undefined,
     channel: s.kind === 'channel' ? `${s.loggerId}/${s.channelId}` : s.kind === 'logger' ? s.loggerId : undefined,
     quantity: a.quantity,
     value: a.value ?? undefined,
@@ -35,3 +38,27 @@ export function reportLimits(cfg: AlarmsConfig | null): QuantityLimits {
 }
 
 const round = (v: number): string => (Math.abs(v) >= 100 ? v.toFixed(0) : Math.abs(v) >= 1 ? v.toFixed(2) : v.toPrecision(3));
+
+/** A fatigue snapshot (the replay's end) in the report's shape, with the comparison run's when given. Pure. */
+export function reportFatigue(cfg: CompiledFatigue, s: FatigueSnapshot, comparison?: { cfg: CompiledFatigue; snapshot: FatigueSnapshot }): ReportFatigue {
+  return {
+    atMs: s.nowMs,
+    details: reportFatigueDetails(cfg, s),
+    assumptions: REMAINING_LIFE_ASSUMPTIONS,
+    ...(comparison === undefined ? {} : { comparison: reportFatigueDetails(comparison.cfg, comparison.snapshot) }),
+  };
+}
+
+function reportFatigueDetails(cfg: CompiledFatigue, s: FatigueSnapshot): ReportFatigueDetail[] {
+  const byId = new Map(cfg.details.map((d) => [d.id, d]));
+  return s.details.map(({ id, groupId, figures: f }) => {
+    const d = byId.get(id)!;
+    const life = remainingLifeYears(f.damage, f.damagePerDay);
+    return {
+      id, groupId, location: d.location, describe: d.describe, curve: d.params.curve,
+      damage: f.damage, damagePerDay: Number.isFinite(f.damagePerDay) ? f.damagePerDay : null, rateWindowS: f.rateWindowS,
+      remainingLifeYears: Number.isNaN(life) ? null : life, cycles: f.cycles, monitoredS: f.monitoredS, notMonitoredS: f.notMonitoredS,
+      breaks: f.breaks, binWidthMPa: d.params.binWidthMPa, counts: f.histogramCounts,
+    };
+  });
+}

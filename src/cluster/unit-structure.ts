@@ -57,19 +57,25 @@ export function unitStructureConfig(c: StructureConfig, loggers: ReadonlySet<str
   const groupIds = new Set(groups.map((g) => g.id));
   const zones = new Set(groups.map((g) => g.zone));
   const gaugeIds = new Set(gauges.map((g) => g.id));
-  const alarms = c.alarms === undefined || !('rules' in c.alarms) ? c.alarms : {
-    ...c.alarms,
-    rules: c.alarms.rules.flatMap((r) => {
-      if (r.scope.kind === 'zone') return zones.has(r.scope.zone) ? [r] : [];
-      if (r.scope.kind === 'groups') {
-        const kept = r.scope.group_ids.filter((id) => groupIds.has(id));
-        return kept.length === 0 ? [] : [{ ...r, scope: { ...r.scope, group_ids: kept } }];
-      }
-      return [r];
-    }),
-  };
   const details = c.fatigue?.details.filter((d) => (d.group !== undefined ? groupIds.has(d.group) : d.gauge !== undefined && gaugeIds.has(d.gauge))) ?? [];
   const fatigue = c.fatigue === undefined || details.length === 0 ? undefined : { ...c.fatigue, details };
+  const detailIds = new Set(details.map((d) => d.id));
+  type Rule = NonNullable<StructureConfig['alarms']> extends infer A ? A extends { rules: Array<infer R> } ? R : never : never;
+  const scoped = (r: Rule): Rule[] => {
+    const s = r.scope;
+    if (s.kind === 'zone') return zones.has(s.zone) ? [r] : [];
+    if (s.kind === 'groups') {
+      const kept = s.group_ids.filter((id) => groupIds.has(id));
+      return kept.length === 0 ? [] : [{ ...r, scope: { ...s, group_ids: kept } } as Rule];
+    }
+    if (s.kind === 'details') {
+      const kept = s.detail_ids.filter((id) => detailIds.has(id));
+      return kept.length === 0 ? [] : [{ ...r, scope: { ...s, detail_ids: kept } } as Rule];
+    }
+    // A structure-wide fatigue rule needs fatigue details in the unit.
+    return (r.kind === 'fatigue_damage' || r.kind === 'fatigue_damage_rate') && fatigue === undefined ? [] : [r];
+  };
+  const alarms = c.alarms === undefined || !('rules' in c.alarms) ? c.alarms : { ...c.alarms, rules: c.alarms.rules.flatMap(scoped) };
   // Who may rezero what: kept for the groups and zones this unit has.
   const allowed = c.rezero?.allowed
     .map((a) => ({ ...a, groups: a.groups.filter((id) => groupIds.has(id)), zones: a.zones.filter((z) => zones.has(z)) }))

@@ -18,6 +18,8 @@ export interface CompiledFatigueDetail {
   groupId: string;
   reader: FatigueStressReader;
   params: FatigueDetailParams;
+  /** Where it is: the detail's `location`, else its group's. */
+  location: string;
   /** For reports: what is counted, in words. */
   describe: string;
 }
@@ -72,7 +74,7 @@ export function compileFatigue(c: StructureConfig, f: FatigueConfig): { fatigue:
       reader = s.kind === 'direction' ? { kind: 'plane', a: co * co, b: si * si, c: 2 * si * co } : { kind: 'plane', a: -si * co, b: si * co, c: co * co - si * si };
     }
     details.push({
-      id: d.id, groupId: g.id, reader,
+      id: d.id, groupId: g.id, reader, location: d.location ?? g.location,
       describe: `${s.kind === 'principal' ? `principal ${s.which}` : `${s.kind} stress at ${s.angle_deg} deg`} of group ${g.id}, category ${d.category_MPa}, gamma_Ff ${d.gamma_Ff}, gamma_Mf ${d.gamma_Mf}, SCF ${d.stress_concentration_factor}`,
       params: {
         curve: snCurve(shear ? 'shear' : 'direct', d.category_MPa, d.gamma_Ff, d.gamma_Mf),

@@ -129,9 +129,18 @@ function checkAlarmScopes(c: StructureConfig): ValidationProblem[] {
   const problems: ValidationProblem[] = [];
   const groupIds = new Set(c.groups.map((g) => g.id));
   const zones = new Set(c.groups.map((g) => g.zone));
+  const detailIds = new Set(c.fatigue?.details.map((d) => d.id) ?? []);
   const rules = c.alarms === undefined || c.alarms.disabled === true ? [] : c.alarms.rules;
   rules.forEach((rule, i) => {
     const at = `alarms.rules[${i}].scope`;
+    if ((rule.kind === 'fatigue_damage' || rule.kind === 'fatigue_damage_rate') && c.fatigue === undefined) {
+      problems.push({ path: `alarms.rules[${i}].kind`, reason: `${rule.kind} judges fatigue details, and the structure has no \`fatigue\` section` });
+    }
+    if (rule.scope.kind === 'details') {
+      rule.scope.detail_ids.forEach((id, j) => {
+        if (!detailIds.has(id)) problems.push({ path: `${at}.detail_ids[${j}]`, reason: `unknown fatigue detail "${id}" (details: ${[...detailIds].join(', ') || 'none'})` });
+      });
+    }
     if (rule.scope.kind === 'zone' && !zones.has(rule.scope.zone)) {
       problems.push({ path: `${at}.zone`, reason: `unknown zone "${rule.scope.zone}" (zones: ${[...zones].join(', ')})` });
     }

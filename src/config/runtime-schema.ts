@@ -129,6 +129,10 @@ export const RuntimeConfigSchema = z.strictObject({
     state_file: z.string().min(1),
     log_file: z.string().min(1),
   }).default({ state_file: 'var/alarm-state.json', log_file: 'var/alarms.ndjson' }),
+  /** Where the fatigue counts of the structure's `fatigue` section are kept between runs (rewritten atomically every `write_interval_s` and at stop). */
+  fatigue: z.strictObject({
+    state_file: z.string().min(1),
+  }).default({ state_file: 'var/fatigue-state.json' }),
   /**
    * Rezero (only with a `rezero` section in the structure file): the zero overrides in effect,
    * restored at start, and the audit file every accepted rezero is appended to (replay reads it).

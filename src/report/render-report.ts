@@ -2,6 +2,7 @@ import type { GroupResult } from '../model/result.js';
 import { compareRuns } from './compare.js';
 import { esc, isoTime } from './format.js';
 import { groupSection } from './group-section.js';
+import { fatigueSection } from './fatigue-section.js';
 import { activeSpans, timelineChart } from './health-timeline.js';
 import { peaksByGroup } from './peaks.js';
 import { REPORT_CSS } from './style.js';
@@ -41,7 +42,7 @@ export function renderReport(input: ReportInput): string {
   body.push(`<h1>${esc(input.title)}</h1>`);
   body.push(`<p class="meta">Structure ${esc(input.structureId)} · period ${esc(isoTime(fromMs))} – ${esc(isoTime(toMs))} UTC · generated ${esc(isoTime(input.generatedAtMs))} UTC · run “${esc(input.run.label)}”${input.comparison ? ` compared with “${esc(input.comparison.label)}”` : ''}</p>`);
   body.push(`<div class="notice" id="notice">${REPORT_NOTICES.map((n) => `<p>${esc(n)}</p>`).join('')}</div>`);
-  body.push('<nav>' + (input.captureGaps !== undefined ? '<a href="#capture">Capture read</a> · ' : '') + '<a href="#peaks">Peaks</a> · <a href="#health">Instrument health</a> · <a href="#alarms">Alarms</a> · <a href="#groups">Groups</a>' + (input.comparison ? ' · <a href="#differences">Differences</a>' : '') + '</nav>');
+  body.push('<nav>' + (input.captureGaps !== undefined ? '<a href="#capture">Capture read</a> · ' : '') + '<a href="#peaks">Peaks</a> · <a href="#health">Instrument health</a> · <a href="#alarms">Alarms</a> · <a href="#groups">Groups</a>' + (input.fatigue ? ' · <a href="#fatigue">Fatigue</a>' : '') + (input.comparison ? ' · <a href="#differences">Differences</a>' : '') + '</nav>');
 
   // First: a replay with gaps misses results and alarms of those periods.
   if (input.captureGaps !== undefined) {
@@ -71,7 +72,8 @@ export function renderReport(input: ReportInput): string {
       comparison: cmp && input.comparison ? { label: input.comparison.label, results: cmp } : undefined,
     }));
   }
-  // Further sections (e.g. fatigue) go here, each an <h2 id> and its content, before the comparison.
+  // Further sections go here, each an <h2 id> and its content, before the comparison.
+  if (input.fatigue !== undefined) body.push(fatigueSection(input.fatigue, widthPx, input.run.label, input.comparison?.label));
   if (input.comparison) {
     body.push('<h2 id="differences">Differences between the runs</h2>');
     body.push(differencesTable(compareRuns(input.run.results, input.comparison.results), input.run.label, input.comparison.label));

@@ -14,5 +14,7 @@ svg .plot{fill:#fff;stroke:#999}svg .grid{stroke:#e4e4e4}svg .limit{stroke:#a33;
 p.warning{border-left:4px solid #7a2e2e;padding-left:8px;font-weight:600}
 svg .band{opacity:.55}svg .gap{fill:#bbb;opacity:.45}svg .series{fill:none;stroke-width:1.2}
 svg text{font:11px system-ui,sans-serif;fill:#333}svg .chart-title{font-weight:600}svg .chart-note{fill:#7a2e2e}svg .gap-label,svg .empty{fill:#666}
+svg .bin{fill:#7d97b8}svg .sn-curve{fill:none;stroke:#a33;stroke-width:1.6}ul.assumptions{margin:4px 0;font-size:13px}
+table.fatigue,table.fatigue-differences{table-layout:fixed;width:100%;overflow-wrap:anywhere}table.fatigue td,table.fatigue th{padding:3px 4px}
 svg .band-label{fill:#822}svg .span-level{font-size:10px}svg .off-scale{font-weight:600}
 `;

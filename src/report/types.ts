@@ -1,3 +1,4 @@
+import type { SnCurve } from '../fatigue/sn-curve.js';
 import type { GroupResult, ResultQuantity } from '../model/result.js';
 
 /**
@@ -48,6 +49,40 @@ export interface ReportCaptureGap {
   reason: string;
 }
 
+/** One fatigue detail's figures at the end of a run (a local shape: fed from a replay, the database or a test). */
+export interface ReportFatigueDetail {
+  id: string;
+  groupId: string;
+  location: string;
+  /** What is counted, in words (stress, category, factors). */
+  describe: string;
+  curve: SnCurve;
+  /** Miner's sum, the residue as half cycles. */
+  damage: number;
+  /** Per monitored day over the rate window; null while not known. */
+  damagePerDay: number | null;
+  rateWindowS: number;
+  /** Years; Infinity when no damage accrued over the window, null while not known. */
+  remainingLifeYears: number | null;
+  cycles: number;
+  monitoredS: number;
+  notMonitoredS: number;
+  breaks: number;
+  /** Hot-spot stress-range histogram (bin width MPa; the last bin is everything above). */
+  binWidthMPa: number;
+  counts: readonly number[];
+}
+
+export interface ReportFatigue {
+  /** Logger time the figures are at, epoch ms. */
+  atMs: number;
+  details: readonly ReportFatigueDetail[];
+  /** The assumptions behind the remaining-life estimate, printed with it. */
+  assumptions: readonly string[];
+  /** The comparison run's figures (same detail ids), when there is one. */
+  comparison?: readonly ReportFatigueDetail[];
+}
+
 export interface ReportInput {
   title: string;
   structureId: string;
@@ -67,6 +102,8 @@ export interface ReportInput {
   gapFactor?: number;
   /** The configuration's alarm levels, lowest first: the timeline draws each level differently. */
   levels?: readonly string[];
+  /** Fatigue of the run (absent: the structure counts none). */
+  fatigue?: ReportFatigue;
   /** Plot width in pixels (default 860); series are reduced to min/max per pixel column. */
   plotWidthPx?: number;
 }

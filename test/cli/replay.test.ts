@@ -54,6 +54,10 @@ describe('strainward replay', () => {
     const alarms = points.filter((p) => p.measurement === 'sw_alarm' && p.tags.transition === 'raised' && p.tags.alarm_class === 'structural');
     expect(alarms.map((p) => p.tags.rule)).toContain('steel-von-mises');
     expect(alarms.every((p) => p.tags.run === 'r1')).toBe(true);
+    // Fatigue: every detail's figures at the end of the replay (a 2-minute run crosses no 300 s boundary), tagged with the run.
+    const fatigue = points.filter((p) => p.measurement === 'sw_fatigue' && p.tags.bin_from_MPa === undefined);
+    expect(fatigue.map((p) => p.tags.detail).sort()).toEqual(['flange-north-butt-weld', 'flange-south-cover-plate-end', 'web-north-stiffener-toe']);
+    expect(fatigue.every((p) => p.tags.run === 'r1' && p.fields.monitored_s > 60 && p.fields.cycles > 0)).toBe(true);
     expect(await readdir(a)).toEqual(await readdir(b));
   });
 
@@ -86,6 +90,16 @@ describe('strainward replay', () => {
     expect(maxAbs).toBeCloseTo(-expected, 9);
     // Every other group is untouched by the correction.
     expect(row('web-north-pier', 'von_mises_MPa')[1]).toBe(0);
+    // Fatigue: the section with each detail's remaining life and its assumptions, and the damage compared. A zero
+    // reading shifts the stress, not its ranges; EN 1993-1-9 counts ranges only (no mean-stress term, 7.1), so
+    // the corrected gauge's detail has the same damage, to round-off.
+    expect(html).toContain('<h2 id="fatigue">Fatigue</h2>');
+    expect(html).toContain('damage before monitoring began is not known and is not included');
+    const diff = html.match(/<table class="fatigue-differences">.*?<\/table>/)![0];
+    const [a, b, d] = [...diff.match(/<tr data-detail="flange-south-cover-plate-end">.*?<\/tr>/)![0].matchAll(/data-value="([^"]+)"/g)].map((x) => Number(x[1]));
+    expect(a).toBeGreaterThan(0);
+    expect(Math.abs(b / a - 1)).toBeLessThan(1e-9);
+    expect(Math.abs(d)).toBeLessThan(1e-9 * a);
   });
 
   it('replays the acknowledgement commands recorded in the capture', async () => {

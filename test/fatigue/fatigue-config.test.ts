@@ -49,6 +49,42 @@ describe('fatigue configuration', () => {
   });
 });
 
+describe('fatigue alarm rules in the configuration', () => {
+  const withRules = (doc: Record<string, unknown>, rules: unknown[]) => {
+    const alarms = doc.alarms as { rules: unknown[] };
+    return { ...doc, alarms: { ...alarms, rules: [...alarms.rules, ...rules] } };
+  };
+  const rate = { id: 'fr', kind: 'fatigue_damage_rate', thresholds: [{ level: 'advisory', damage_per_day: 0.001 }], action: 'inspect' };
+
+  it('the example deck compiles with its fatigue rules', () => {
+    const r = compileStructure(base());
+    expect(r.ok, JSON.stringify(!r.ok && r.problems)).toBe(true);
+    if (!r.ok) return;
+    expect(r.structure.alarms!.rules.filter((x) => x.kind.startsWith('fatigue_')).map((x) => x.id)).toEqual(['fatigue-damage-rate', 'fatigue-damage']);
+  });
+
+  it('refuses a fatigue rule without a fatigue section, an unknown detail and thresholds out of order, each naming its field', () => {
+    const { fatigue: _f, ...noFatigue } = base();
+    const alarms = (base().alarms as { rules: { kind: string }[] });
+    const plain = { ...noFatigue, alarms: { ...alarms, rules: alarms.rules.filter((x) => !x.kind.startsWith('fatigue_')) } };
+    const r1 = compileStructure(withRules(plain, [rate]));
+    expect(r1.ok).toBe(false);
+    if (!r1.ok) expect(r1.problems.map((p) => `${p.path}: ${p.reason}`)).toContain(`alarms.rules[4].kind: fatigue_damage_rate judges fatigue details, and the structure has no \`fatigue\` section`);
+    const r2 = compileStructure(withRules(base(), [
+      { ...rate, scope: { kind: 'details', detail_ids: ['flange-north-butt-weld', 'no-such-detail'] } },
+      { id: 'fd', kind: 'fatigue_damage', thresholds: [{ level: 'advisory', fraction: 0.8 }, { level: 'alert', fraction: 0.5 }], action: 'inspect' },
+    ]));
+    expect(r2.ok).toBe(false);
+    if (r2.ok) return;
+    const reasons = r2.problems.map((p) => `${p.path}: ${p.reason}`).join('\n');
+    expect(reasons).toMatch(/alarms\.rules\[7\]\.thresholds\[1\]: threshold values must increase with severity/);
+    // The schema's problems come first: scopes are checked once the alarms section parses.
+    const r3 = compileStructure(withRules(base(), [{ ...rate, scope: { kind: 'details', detail_ids: ['flange-north-butt-weld', 'no-such-detail'] } }]));
+    expect(r3.ok).toBe(false);
+    if (!r3.ok) expect(r3.problems.map((p) => `${p.path}: ${p.reason}`)).toEqual([expect.stringMatching(/^alarms\.rules\[6\]\.scope\.detail_ids\[1\]: unknown fatigue detail "no-such-detail" \(details: flange-south-cover-plate-end, /)]);
+  });
+});
+
 function singleGauge(): string {
   const groups = base().groups as { id: string; elements: { gauge: string }[] }[];
   return groups.find((g) => g.id === 'flange-south-mid1')!.elements[0].gauge;

@@ -9,7 +9,7 @@ import type { FrameOutput } from '../../src/pipeline/process-frames.js';
 const cfg: CompiledFatigue = {
   writeIntervalMs: 10_000,
   details: [{
-    id: 'd1', groupId: 'g1', describe: 'test', reader: { kind: 'plane', a: 1, b: 0, c: 0 },
+    id: 'd1', groupId: 'g1', location: 'test bench', describe: 'test', reader: { kind: 'plane', a: 1, b: 0, c: 0 },
     params: { curve: snCurve('direct', 71), scf: 1, gateMPa: 1, binWidthMPa: 10, bins: 20, gapMs: 5000, checkpointMs: 3_600_000, checkpoints: 24 },
   }],
 };

@@ -130,6 +130,21 @@ describe('live page of npm start, in a browser', () => {
     await page.screenshot({ path: join(ARTIFACTS, 'live-page.png'), fullPage: true });
   }, 120_000);
 
+  it('shows each fatigue detail: damage, rate, remaining life with its assumptions, the histogram against the S-N curve', async () => {
+    const section = page.locator('#fatigue');
+    await section.waitFor({ state: 'visible', timeout: 20_000 });
+    await section.scrollIntoViewIfNeeded();
+    expect(await page.locator('#fatigue article.fatigue-detail').evaluateAll((as) => as.map((a) => (a as HTMLElement).dataset.detail)))
+      .toEqual(['flange-south-cover-plate-end', 'flange-north-butt-weld', 'web-north-stiffener-toe']);
+    const card = await page.locator('#fatigue article[data-detail="flange-south-cover-plate-end"]').innerText();
+    expect(card).toMatch(/damage so far \(Miner\)\s+\S+/);
+    expect(card).toMatch(/remaining life\s+(not known yet|no damage over the rate window|[\d.e+]+ years at the recent rate)/);
+    expect(card).toMatch(/not monitored\s+/);
+    expect(await page.locator('#fatigue-assumptions li').allInnerTexts()).toContain('damage before monitoring began is not known and is not included');
+    expect((await page.locator('#fatigue article[data-detail="flange-south-cover-plate-end"] polyline.sn-curve').getAttribute('points'))!.split(' ').length).toBeGreaterThan(5);
+    await page.screenshot({ path: join(ARTIFACTS, 'live-page-fatigue.png'), clip: { ...(await section.boundingBox())! } });
+  }, 60_000);
+
   it('fits a phone-sized screen', async () => {
     const phone = await browser.newPage({ viewport: { width: 390, height: 844 } });
     await phone.goto(url);

@@ -67,7 +67,7 @@ describe('diagnosis report in a browser', () => {
     // Screenshots kept for a person to look at (test-artifacts/ is not committed).
     await mkdir('test-artifacts', { recursive: true });
     await page.screenshot({ path: 'test-artifacts/report-top.png' });
-    for (const [sel, name] of [['#health', 'report-health'], ['section.group', 'report-group']] as const) {
+    for (const [sel, name] of [['#health', 'report-health'], ['section.group', 'report-group'], ['#fatigue', 'report-fatigue'], ['#fatigue-flange-south-cover-plate-end', 'report-fatigue-chart']] as const) {
       const y = await page.evaluate((s) => document.querySelector(s)!.getBoundingClientRect().top + window.scrollY, sel);
       await page.screenshot({ path: `test-artifacts/${name}.png`, clip: { x: 0, y, width: 720, height: 900 }, fullPage: true });
     }

@@ -1,10 +1,10 @@
 /**
  * `strainward run` stopped after a live run and started again, as processes, against a real
  * Mosquitto (started here on a free loopback port): it starts from the alarm state it saved,
- * a spike excursion held at the stop included. Results go to line-protocol files.
+ * a spike excursion held at the stop included, and the fatigue counts it saved. Results go to line-protocol files.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { mkdtemp, readFile } from 'node:fs/promises';
+import { mkdtemp, readdir, readFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import mqtt from 'mqtt';
@@ -66,6 +66,14 @@ describe('strainward run, restarted', () => {
     expect(await stop(first.child)).toBe(0);
     const saved = JSON.parse(await readFile(statePath, 'utf8'));
     expect(saved).toMatchObject({ format: 'strainward.alarm-state', version: 2, idFloor: 0, sequences: { 'lg-span1': { lastSeq: 20 } } });
+    // Fatigue state saved at the stop: every result of the flange details seen (trusted or flagged, counted either way).
+    const fatigueSeen = async () => {
+      const f = JSON.parse(await readFile(join(dir, 'fatigue-state.json'), 'utf8'));
+      const d = f.details['flange-north-butt-weld'];
+      return d.samples + d.flaggedSamples;
+    };
+    const seenBefore = await fatigueSeen();
+    expect(seenBefore).toBeGreaterThan(0);
     const raisedBefore = await alarmLog(logPath);
     expect(raisedBefore.length).toBeGreaterThan(0);
     expect(raisedBefore.every((t) => t.startsWith('raised ') && t.endsWith(':1'))).toBe(true);
@@ -74,11 +82,16 @@ describe('strainward run, restarted', () => {
     expect(await until(() => second.log().includes('"started"') || second.child.exitCode !== null, 20_000)).toBe(true);
     expect(second.log()).toContain('"started"');
     expect(second.log()).not.toContain('alarm_state_reset');
+    expect(second.log()).not.toContain('fatigue_state_reset');
     await scan(21, 100); // back at the level: the excursion held across the restart was a spike
     const spike = 'raised brannock-mere:spike:c:lg-span1/ch04:1';
     expect(await until(async () => (await alarmLog(logPath)).includes(spike), 15_000)).toBe(true);
     expect(await stop(second.child)).toBe(0);
     await pub.endAsync();
+    // Fatigue continued from the saved state: the scan after the restart added to it; each stop wrote the figures.
+    expect(await fatigueSeen()).toBeGreaterThan(seenBefore);
+    const lines = (await Promise.all((await readdir(join(dir, 'lp'))).map((f) => readFile(join(dir, 'lp', f), 'utf8')))).join('');
+    expect(lines.match(/^sw_fatigue,detail=flange-north-butt-weld,group=flange-north-mid1,structure=brannock-mere,zone=span-1 /gm)).toHaveLength(2);
     // The alarms raised before the stop were restored, not raised again under new or repeated ids.
     const after = await alarmLog(logPath);
     expect(after.filter((t) => t.startsWith('raised ')).sort()).toEqual([...raisedBefore, spike].sort());

@@ -16,11 +16,12 @@ export async function writeRuntimeFile(dir: string, brokerUrl: string, clientId:
   return path;
 }
 
-/** Runtime sections that keep every file the live job writes under `dir` (results, dead letters, alarms). */
+/** Runtime sections that keep every file the live job writes under `dir` (results, dead letters, alarms, fatigue). */
 export function filesUnder(dir: string): string[] {
   return [
     `line_protocol: { dir: ${join(dir, 'lp')} }`,
     `dead_letters: { file: ${join(dir, 'dl.ndjson')} }`,
     `alarms: { state_file: ${join(dir, 'alarm-state.json')}, log_file: ${join(dir, 'alarms.ndjson')} }`,
+    `fatigue: { state_file: ${join(dir, 'fatigue-state.json')} }`,
   ];
 }

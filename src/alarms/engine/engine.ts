@@ -15,6 +15,7 @@ import { parseState, serialiseState } from './state-migration.js';
 import { compileRules, evaluateStructural } from './structural.js';
 import { evaluateSilence } from './watchdog.js';
 import { evaluateRefusals, evaluateRefusalsAt } from './refusal-health.js';
+import { evaluateFatigue } from './fatigue-rule.js';
 
 /** What one input produced. */
 export interface StepOutput {
@@ -81,6 +82,8 @@ export function createAlarmEngine(cfg: AlarmsConfig, lookups: AlarmLookups, snap
       }
       case 'component':
         return { transitions: evaluateComponent(ctx, input), refusals: [] };
+      case 'fatigue':
+        return { transitions: evaluateFatigue(ctx, rules.fatigue, input), refusals: [] };
     }
   }
 

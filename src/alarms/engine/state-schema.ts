@@ -27,6 +27,8 @@ const SubjectSchema = z.discriminatedUnion('kind', [
   z.strictObject({ kind: z.literal('channel'), loggerId: z.string(), channelId: z.string(), groupId: z.string().nullable() }),
   z.strictObject({ kind: z.literal('logger'), loggerId: z.string() }),
   z.strictObject({ kind: z.literal('component'), component: z.string() }),
+  // Added within version 2 (a new kind of subject: every older snapshot still reads the same).
+  z.strictObject({ kind: z.literal('detail'), detailId: z.string(), groupId: z.string() }),
 ]);
 
 export const AlarmSchema = z.strictObject({

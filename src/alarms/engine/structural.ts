@@ -1,5 +1,5 @@
 import type { GroupResult } from '../../model/result.js';
-import type { StructuralRule } from '../schema.js';
+import type { FatigueRule, ResultRule, StructuralRule } from '../schema.js';
 import type { AlarmTransition } from '../types.js';
 import { unitOfQuantity } from '../units.js';
 import { compileLimit, limitLevel, limitValue, type CompiledLimit } from './limit-rule.js';
@@ -9,21 +9,23 @@ import { evaluate, keyState, type EngineContext } from './evaluate.js';
 import type { AlarmDescriptor } from './lifecycle.js';
 
 /** Whether a rule's scope covers a group. */
-export function inScope(rule: StructuralRule, groupId: string, zone: string): boolean {
+export function inScope(rule: ResultRule, groupId: string, zone: string): boolean {
   const s = rule.scope;
   return s.kind === 'structure' || (s.kind === 'zone' ? s.zone === zone : s.group_ids.includes(groupId));
 }
 
-/** Structural rules compiled once at engine creation. */
+/** Structural rules compiled once at engine creation: those judged on results, and the fatigue rules. */
 export interface CompiledRules {
-  rules: StructuralRule[];
+  rules: ResultRule[];
   limits: Map<string, CompiledLimit>;
+  fatigue: FatigueRule[];
 }
 
 export function compileRules(rules: readonly StructuralRule[]): CompiledRules {
   const limits = new Map<string, CompiledLimit>();
   for (const r of rules) if (r.kind === 'limit') limits.set(r.id, compileLimit(r));
-  return { rules: [...rules], limits };
+  const isResultRule = (r: StructuralRule): r is ResultRule => r.kind === 'limit' || r.kind === 'rate';
+  return { rules: rules.filter(isResultRule), limits, fatigue: rules.filter((r): r is FatigueRule => !isResultRule(r)) };
 }
 
 /**

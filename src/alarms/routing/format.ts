@@ -45,6 +45,7 @@ function subjectText(t: AlarmTransition): string {
   if (s.kind === 'group') return `group ${s.groupId}`;
   if (s.kind === 'logger') return `logger ${s.loggerId}`;
   if (s.kind === 'component') return `processor ${s.component}`;
+  if (s.kind === 'detail') return `fatigue detail ${s.detailId} (group ${s.groupId})`;
   return `logger ${s.loggerId} channel ${s.channelId}${s.groupId === null ? '' : ` (group ${s.groupId})`}`;
 }
 
@@ -76,6 +77,7 @@ export function alarmMessage(t: AlarmTransition): AlarmMessageBody {
     subject: s.kind === 'group' ? { kind: 'group', group_id: s.groupId }
       : s.kind === 'logger' ? { kind: 'logger', logger_id: s.loggerId }
       : s.kind === 'component' ? { kind: 'component', component: s.component }
+      : s.kind === 'detail' ? { kind: 'detail', detail_id: s.detailId, group_id: s.groupId }
       : { kind: 'channel', logger_id: s.loggerId, channel_id: s.channelId, group_id: s.groupId },
     alarm_class: a.alarmClass, rule: a.ruleId, quantity: a.quantity, value: a.value, limit: a.limit, units: a.units,
     level: a.level, level_index: a.levelIndex, previous_level: t.previousLevel ?? null, state: a.state,

@@ -19,6 +19,7 @@ export function transitionToPoint(t: AlarmTransition): Point {
   };
   if (s.kind === 'group') tags.group = s.groupId;
   else if (s.kind === 'component') tags.component = s.component;
+  else if (s.kind === 'detail') { tags.detail = s.detailId; tags.group = s.groupId; }
   else {
     tags.logger = s.loggerId;
     if (s.kind === 'channel') {

@@ -12,6 +12,9 @@ import type { RuntimeConfig } from '../../config/runtime-schema.js';
 import type { RawMessage } from '../../model/raw-message.js';
 import type { FrameOutput } from '../../pipeline/process-frames.js';
 import { initialPageState, pageView, reducePage, type PageEvent, type ProcessorSample } from './page-state.js';
+import { pageFatigue } from './fatigue-view.js';
+import type { CompiledFatigue } from '../../config/compile-fatigue.js';
+import type { FatigueSnapshot } from '../../pipeline/fatigue-stage.js';
 
 export type LivePageConfig = NonNullable<RuntimeConfig['live_page']>;
 
@@ -26,6 +29,8 @@ export interface LivePageDeps {
   /** Hands a command to the processor's own acknowledgement path, exactly as if it came from the ack topic. */
   submitCommand(raw: RawMessage): void;
   sample(): ProcessorSample;
+  /** The fatigue figures now (`FatigueWiring.current`), with the compiled section; absent without fatigue. */
+  fatigue?: { cfg: CompiledFatigue; current(): FatigueSnapshot | null };
 }
 
 export interface LivePage {
@@ -104,8 +109,12 @@ export async function openLivePage(cfg: LivePageConfig, baseDir: string, deps: L
     }),
   });
 
+  let fatigueAtMs = Number.NaN;
   const push = () => {
     apply({ type: 'processor', atMs: deps.now(), sample: deps.sample() });
+    const f = deps.fatigue?.current() ?? null;
+    // Only when something new was counted (the figures copy every histogram).
+    if (f !== null && f.nowMs !== fatigueAtMs) { fatigueAtMs = f.nowMs; apply({ type: 'fatigue', fatigue: pageFatigue(deps.fatigue!.cfg, f) }); }
     if (server.clients() === 0) return;
     const view = pageView(state, (id) => sentTrend.get(id) ?? Number.NEGATIVE_INFINITY);
     for (const g of view.groups) if (g.trend.length > 0) sentTrend.set(g.id, g.trend[g.trend.length - 1][0]);

@@ -2,6 +2,7 @@ import type { AckRefusal, Alarm, AlarmLookups, AlarmTransition } from '../../ala
 import type { LoggerFrame } from '../../model/raw-message.js';
 import type { GroupResult, ResultQuantity } from '../../model/result.js';
 import { TrendRing } from './trend-ring.js';
+import type { PageFatigue } from './fatigue-view.js';
 
 /** What the page shows of a group besides its numbers (from the structure configuration). */
 export interface PageGroupInfo {
@@ -40,7 +41,9 @@ export type PageEvent =
   /** The engine's visible alarms as restored from its state file at start. */
   | { type: 'alarms_restored'; alarms: readonly Alarm[] }
   | { type: 'refusal'; refusal: AckRefusal }
-  | { type: 'processor'; atMs: number; sample: ProcessorSample };
+  | { type: 'processor'; atMs: number; sample: ProcessorSample }
+  /** The fatigue figures now (replacing the last ones). */
+  | { type: 'fatigue'; fatigue: PageFatigue };
 
 interface GroupState {
   info: PageGroupInfo;
@@ -92,6 +95,8 @@ export interface PageState {
   processor: { atMs: number; sample: ProcessorSample; rates: { messagesPerS: number; resultsPerS: number; rejectedPerS: number } | null } | null;
   /** Recent processor samples, oldest first, over at most RATE_WINDOW_MS: rates are averaged over them. */
   samples: Array<{ atMs: number; sample: ProcessorSample }>;
+  /** The latest fatigue figures (one entry per configured detail); null without fatigue or before any result. */
+  fatigue: PageFatigue | null;
 }
 
 /** Rates are averaged over this long (results come in bursts when held frames get their temperature). */
@@ -114,7 +119,7 @@ export function initialPageState(
     }
     loggers.set(id, { id, zone: l.zone, location: l.location, expectedIntervalS: l.expectedIntervalS, frames: 0, lastArrivalMs: null, lastTimeMs: null, lastSeq: null, seqGaps: 0, channels });
   }
-  return { structureId: structure.structureId, structureName: structure.name, notice, trendS: trend_s, clockMs: Number.NEGATIVE_INFINITY, groups, loggers, alarms: new Map(), refusals: [], processor: null, samples: [] };
+  return { structureId: structure.structureId, structureName: structure.name, notice, trendS: trend_s, clockMs: Number.NEGATIVE_INFINITY, groups, loggers, alarms: new Map(), refusals: [], processor: null, samples: [], fatigue: null };
 }
 
 /**
@@ -186,6 +191,9 @@ export function reducePage(state: PageState, event: PageEvent): PageState {
       state.processor = { atMs: event.atMs, sample: event.sample, rates };
       return state;
     }
+    case 'fatigue':
+      state.fatigue = event.fatigue;
+      return state;
   }
 }
 
@@ -248,6 +256,7 @@ export function pageView(state: PageState, trendSince: (groupId: string) => numb
       })),
     })),
     processor: state.processor === null ? null : { ...state.processor.sample, rates: state.processor.rates },
+    fatigue: state.fatigue,
   };
 }
 
@@ -266,4 +275,5 @@ export interface PageView {
     channels: Array<{ id: string; unit: string; groupId: string | null; lastValue: number | null; nulls: number; outOfRange: boolean; ageS: number | null }>;
   }>;
   processor: (ProcessorSample & { rates: { messagesPerS: number; resultsPerS: number; rejectedPerS: number } | null }) | null;
+  fatigue: PageFatigue | null;
 }

@@ -91,6 +91,7 @@ function subjectFields(a: Alarm): Record<string, string | null> {
   if (s.kind === 'group') return { kind: 'group', group_id: s.groupId };
   if (s.kind === 'logger') return { kind: 'logger', logger_id: s.loggerId };
   if (s.kind === 'component') return { kind: 'component', component: s.component };
+  if (s.kind === 'detail') return { kind: 'detail', detail_id: s.detailId, group_id: s.groupId };
   return { kind: 'channel', logger_id: s.loggerId, channel_id: s.channelId, group_id: s.groupId };
 }
 

@@ -13,12 +13,14 @@ import { replay, type ReplaySummary } from '../../app/replay.js';
 import { ensureParent, openPointSink } from '../../app/sinks.js';
 import { MemorySink } from '../../adapters/memory-sink.js';
 import { renderReport } from '../../report/render-report.js';
-import { reportAlarm, reportLimits } from '../../app/report-inputs.js';
+import { reportAlarm, reportFatigue, reportLimits } from '../../app/report-inputs.js';
 import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import { parseOptions } from '../options.js';
 import { readAuditRecords } from '../../app/rezero-files.js';
+import { remainingLifeYears } from '../../fatigue/detail.js';
+import type { FatigueSnapshot } from '../../pipeline/fatigue-stage.js';
 import { CaptureGapsError, EmptyWindowError, UsageError } from '../errors.js';
 
 const isoTime = z.string().refine((s) => Number.isFinite(Date.parse(s)), 'expected an ISO 8601 time, e.g. 2026-11-30T06:00:00Z');
@@ -39,6 +41,7 @@ export const ReplayOptionsSchema = z.strictObject({
   tickMs: z.coerce.number().int().positive().default(1000),
   progress: z.boolean().optional(),
   acceptGaps: z.boolean().default(false),
+  fatigueState: z.string().min(1).optional(),
 }).refine((o) => o.config !== undefined || o.structure !== undefined, { message: 'give --config (runtime file) or --structure', path: ['structure'] })
   .refine((o) => !o.database || o.config !== undefined, { message: '--database needs --config (it names the database)', path: ['database'] })
   .refine((o) => o.reportPdf === undefined || o.report !== undefined, { message: '--report-pdf goes with --report', path: ['reportPdf'] })
@@ -62,6 +65,7 @@ export function replayCommand(): Command {
     .option('--compare-structure <file>', 'replay again with this structure configuration and compare in the report')
     .option('--tick-ms <ms>', 'pipeline clock tick on the arrival-time grid', '1000')
     .option('--progress', 'show a progress bar (default when stderr is a terminal)')
+    .option('--fatigue-state <file>', 'continue fatigue counting from this state file (when it exists) and leave the end state in it (default: count from nothing, keep no state)')
     .option('--accept-gaps', 'a capture with gaps (damaged members, missing files) still exits 0; the gaps are reported all the same')
     .action(async (raw: unknown) => {
       const o = parseOptions(ReplayOptionsSchema, raw);
@@ -87,6 +91,8 @@ export function replayCommand(): Command {
           deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
           topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains,
           maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, collectResults: collect, alarms: true, zeroRecords: audit.records,
+          fatigueStatePath: tag === o.runTag && o.fatigueState !== undefined ? resolve(o.fatigueState) : undefined,
+          warn: (event, detail) => process.stderr.write(`${event}: ${String(detail.message ?? '')}\n`),
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
           onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
         });
@@ -104,6 +110,7 @@ export function replayCommand(): Command {
         : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
       const first = await run(structure, o.runTag, sink, o.report !== undefined);
       process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitions.length} alarm transitions\n`);
+      for (const line of fatigueLines(first.fatigue)) process.stderr.write(`${line}\n`);
       if (first.messages === 0) {
         const span = `${o.from ?? 'its start'} to ${o.to ?? 'its end'}`;
         throw new EmptyWindowError(`no data to replay: the capture at ${o.capture} holds no message from ${span}; nothing was written`);
@@ -112,14 +119,16 @@ export function replayCommand(): Command {
       const gapSummary = `${gaps.length} capture gap${gaps.length === 1 ? '' : 's'}, ${lost} messages lost${gaps.some((g) => g.messages === null) ? ' (and some of unknown size)' : ''}`;
       if (gaps.length > 0) process.stderr.write(`${gapSummary}: results and alarms of those periods are missing\n`);
       if (o.report) {
-        const second = o.compareStructure
-          ? await run(await loadStructureFile(o.compareStructure), `${o.runTag}-compare`, new MemorySink(), true)
-          : null;
+        const compareStructure = o.compareStructure ? await loadStructureFile(o.compareStructure) : null;
+        const second = compareStructure ? await run(compareStructure, `${o.runTag}-compare`, new MemorySink(), true) : null;
+        const fatigue = structure.fatigue && first.fatigue
+          ? reportFatigue(structure.fatigue, first.fatigue, compareStructure?.fatigue && second?.fatigue ? { cfg: compareStructure.fatigue, snapshot: second.fatigue } : undefined)
+          : undefined;
         const html = renderReport({
           title: `${structure.config.structure.name} – diagnosis report of a replay`, structureId: structure.structureId, generatedAtMs: Date.now(),
           run: { label: `run tag ${o.runTag}, configuration ${o.structure ?? o.config}`, results: first.collected }, alarms: first.transitions.map(reportAlarm),
           limits: reportLimits(structure.alarms), captureGaps: gaps, levels: structure.alarms?.levels,
-          comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined,
+          comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined, fatigue,
         });
         await writeFile(await ensureParent(o.report), html);
         process.stderr.write(`report written to ${o.report}\n`);
@@ -151,4 +160,14 @@ async function countInWindow(dir: string, w: { fromMs?: number; toMs?: number })
       : code === 'EACCES' ? 'its index cannot be read (permission denied)' : 'its index cannot be read';
     throw new UsageError(`no capture at ${dir}: ${why}`);
   }
+}
+
+/** One line per fatigue detail at the end of the replay. */
+function fatigueLines(s: FatigueSnapshot | null): string[] {
+  if (s === null) return [];
+  return s.details.map(({ id, figures: f }) => {
+    const life = remainingLifeYears(f.damage, f.damagePerDay);
+    const lifeText = life === Infinity ? 'no damage over the rate window' : Number.isNaN(life) ? 'not known' : `${life.toPrecision(3)} years at the recent rate`;
+    return `fatigue ${id}: damage ${f.damage.toPrecision(4)}, ${f.cycles.toFixed(1)} cycles, ${(f.monitoredS / 3600).toFixed(2)} h monitored, ${(f.notMonitoredS / 3600).toFixed(2)} h not monitored; remaining life ${lifeText} (assumptions in the report and README)`;
+  });
 }

@@ -25,6 +25,9 @@ const cfg = AlarmsConfigSchema.parse({
       id: 'vm-rate', kind: 'rate', quantity: 'von_mises_MPa', scope: { kind: 'groups', group_ids: ['S1-MID-G2'] }, direction: 'rising',
       window_s: 60, thresholds: [{ level: 'advisory', rate_per_s: 1 }], action,
     },
+    {
+      id: 'fatigue-rate', kind: 'fatigue_damage_rate', thresholds: [{ level: 'advisory', damage_per_day: 0.001 }], on_delay_s: 200, min_window_h: 0, action,
+    },
   ],
   health: {
     level: 'advisory', spike: { window_samples: 5, k_mads: 3, min_deviation: 5, off_delay_s: 0 }, flatline: { window_s: 60, tolerance: 0.5 },
@@ -54,6 +57,9 @@ const res = (s: number, vm: number, groupId = 'S1-MID-G2', flags: QualityFlag[] 
   ({ type: 'result', result: result(at(s), vm, flags, groupId) });
 const tick = (s: number): AlarmInput => ({ type: 'tick', nowMs: at(s) });
 const ack = (id: string, user: string, s: number): AlarmInput => ({ type: 'ack', alarmId: id, user, reason: 'seen on site', atMs: at(s) });
+const fatigue = (s: number, damagePerDay: number): AlarmInput => ({
+  type: 'fatigue', atMs: at(s), details: [{ detailId: 'weld-1', groupId: 'S1-MID-G2', location: 'weld toe', damage: 0.01, damagePerDay, rateWindowS: 7200 }],
+});
 
 /** Up to the snapshot: leaves state in every detector. */
 function before(): AlarmInput[] {
@@ -65,6 +71,7 @@ function before(): AlarmInput[] {
   }
   for (const [k, vm] of [260, 100, 260, 100, 260].entries()) out.push(res(10 * k + 2, vm, 'S2-MID-G2')); // flapping
   out.push(res(60, 120, 'S2-MID-G2', ['residual_high']), res(61, 120, 'S2-MID-G2', ['temperature_stale']));
+  out.push(fatigue(100, 0.002)); // above the rate: raised only once it has held 200 s
   out.push(tick(100)); // LG-02 silent: no-data; escalation of what waited 60 s
   out.push({ type: 'refused', loggerId: 'LG-01', timeMs: at(105) + 3_600_000, arrivalMs: at(105), codes: ['future_timestamp'] });
   out.push(scan(112, 100, 0)); // counter restart
@@ -83,7 +90,7 @@ function after(): AlarmInput[] {
   for (let s = 121; s <= 181; s += 10) out.push(res(s, 150));
   for (let s = 185; s <= 225; s += 10) out.push(res(s, 100));
   out.push(tick(190), ack(`${STRUCTURE}:no_data:l:LG-02:1`, 'tech-morrow', 191));
-  out.push({ type: 'component', component: 'spool', failure: null, atMs: at(192) }, res(230, 260), res(236, 260), tick(300));
+  out.push({ type: 'component', component: 'spool', failure: null, atMs: at(192) }, res(230, 260), res(236, 260), tick(300), fatigue(300, 0.002));
   // In time order, as the pipeline gives them.
   const time = (i: AlarmInput) => (i.type === 'frame' ? i.frame.arrivalMs : i.type === 'result' ? i.result.timeMs : i.type === 'tick' ? i.nowMs : i.type === 'refused' ? i.arrivalMs : i.atMs);
   return out.sort((a, b) => time(a) - time(b));
@@ -106,6 +113,7 @@ describe('alarm engine snapshot: every detector restored', () => {
     expect(k['vm-rate|g:S1-MID-G2'].rate!.tMs.length).toBeGreaterThan(5);
     expect(k['vm-girder|g:S1-MID-G2'].debounce).toMatchObject({ confirmed: 2, belowSinceMs: [null, null, at(116)] });
     expect(k['vm-span2|g:S2-MID-G2'].clearsMs).toEqual([at(12), at(32)]);
+    expect(k['fatigue-rate|d:weld-1'].debounce).toMatchObject({ confirmed: 0, aboveSinceMs: [null, at(100)] });
     expect(s.sequences['LG-01']).toMatchObject({ lastSeq: 1, restarts: 1, restartsMs: [at(112)] });
     expect(s.startMs).toBe(at(0));
     expect(s.loggerLastMs['LG-01']).toBe(at(118));
@@ -145,6 +153,7 @@ describe('alarm engine snapshot: every detector restored', () => {
       `escalated ${STRUCTURE}:vm-span2:g:S2-MID-G2:1 active_unacknowledged alert tier1`,
       `acknowledged ${STRUCTURE}:no_data:l:LG-02:1 active_acknowledged advisory tier1`,
       `cleared ${STRUCTURE}:component_fault:p:spool:1 cleared_unacknowledged advisory tier1`,
+      `raised ${STRUCTURE}:fatigue-rate:d:weld-1:1 active_unacknowledged advisory tier0`,
     ]));
     // Without the state, the same inputs decide otherwise (the test can fail).
     expect(text(run(createAlarmEngine(cfg, lookups), next))).not.toEqual(text(fromRestored));

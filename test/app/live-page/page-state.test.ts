@@ -170,4 +170,26 @@ describe('vonMisesLimits', () => {
     ));
     expect(vonMisesLimits(s, 'r1', 'deck')).toEqual([{ level: 'low', value: 60 }, { level: 'low', value: 70 }, { level: 'low', value: 80 }, { level: 'high', value: 120 }]);
   });
+
+  it('keeps the latest fatigue figures, one entry per detail, in the view', async () => {
+    const { pageFatigue } = await import('../../../src/app/live-page/fatigue-view.js');
+    const { snCurve } = await import('../../../src/fatigue/sn-curve.js');
+    const { detailFigures, detailTrusted, newDetailState } = await import('../../../src/fatigue/detail.js');
+    const params = { curve: snCurve('direct', 71, 1, 1.35), scf: 1, gateMPa: 1, binWidthMPa: 10, bins: 20, gapMs: 5000, checkpointMs: 60_000, checkpoints: 24 };
+    const cfg = { writeIntervalMs: 300_000, details: [{ id: 'd1', groupId: 'g1', location: 'weld toe', describe: 'test', reader: { kind: 'axial' as const, factor: 1 }, params }] };
+    const st = newDetailState(params);
+    for (let i = 0; i < 11; i++) detailTrusted(st, params, T0 + i * 1000, i % 2 === 0 ? 0 : 100);
+    const s = fresh();
+    expect(pageView(s, () => 0).fatigue).toBeNull();
+    reducePage(s, { type: 'fatigue', fatigue: pageFatigue(cfg, { kind: 'fatigue', nowMs: T0 + 10_000, final: false, details: [{ id: 'd1', groupId: 'g1', figures: detailFigures(st, params) }] }) });
+    const f = pageView(s, () => 0).fatigue!;
+    expect(f.details).toHaveLength(1);
+    // Source: EN 1993-1-9:2005 7.1, equation 7.1 with gamma_Mf 1.35: N = 2e6 (71 / (1.35 x 100))^3 cycles at 100 MPa; 5 cycles.
+    expect(f.details[0].damage).toBeCloseTo(5 / (2e6 * (71 / 135) ** 3), 15);
+    expect(f.details[0].counts[10]).toBe(5);
+    // The curve: 2e6 cycles at 71 / 1.35 = 52.6 MPa, flat past 1e8 at the cut-off 28.7 / 1.35 = 21.3 MPa (EN 1993-1-9:2005 7.1).
+    expect(f.details[0].curve.find(([n]) => Math.abs(n - 1e8) < 1)![1]).toBeCloseTo(21.25, 1);
+    expect(f.details[0].curve.at(-1)).toEqual([1e9, f.details[0].curve.find(([n]) => Math.abs(n - 1e8) < 1)![1]]);
+    expect(f.assumptions.some((a) => a.includes('engineering judgement'))).toBe(true);
+  });
 });

@@ -15,7 +15,7 @@ const fmt = (v, digits = 1) => (v === null || v === undefined || !Number.isFinit
 const utc = (ms) => (ms === null || ms === undefined ? '—' : new Date(ms).toISOString().slice(11, 19));
 const age = (s) => (s === null || s === undefined ? '—' : s < 10 ? `${s.toFixed(1)} s` : s < 120 ? `${Math.round(s)} s` : `${Math.round(s / 60)} min`);
 
-const page = { view: null, trendMs: 300_000, groups: new Map(), onScreen: new Set(), lastEventAt: 0, openAlarmId: null };
+const page = { view: null, trendMs: 300_000, groups: new Map(), onScreen: new Set(), lastEventAt: 0, openAlarmId: null, fatigueAtMs: null };
 
 // ---- groups -------------------------------------------------------------------------------
 
@@ -232,6 +232,8 @@ function subjectText(a) {
   const s = a.subject;
   if (s.kind === 'group') return `group ${s.groupId}`;
   if (s.kind === 'channel') return `channel ${s.loggerId}/${s.channelId}${s.groupId ? ` (group ${s.groupId})` : ''}`;
+  if (s.kind === 'detail') return `fatigue detail ${s.detailId} (group ${s.groupId})`;
+  if (s.kind === 'component') return `processor ${s.component}`;
   return `logger ${s.loggerId}`;
 }
 function stateText(a) {
@@ -266,6 +268,82 @@ function renderAlarms(view) {
   box.hidden = view.refusals.length === 0;
   $('refusal-count').textContent = `(${view.refusals.length})`;
   $('refusal-list').replaceChildren(...view.refusals.map((r) => el('li', {}, `${utc(r.atMs)} UTC — ${r.user || '(no user)'} on ${r.alarmId || '(no alarm)'}: refused (${r.code}): ${r.reason}`)));
+}
+
+// ---- fatigue ------------------------------------------------------------------------------
+
+const sci = (v) => (v === null || v === undefined || !Number.isFinite(v) ? '—' : v === 0 ? '0' : Math.abs(v) < 1e-3 ? v.toExponential(2) : v.toPrecision(3));
+const span = (s) => (s < 120 ? `${s.toFixed(1)} s` : s < 7200 ? `${(s / 60).toFixed(1)} min` : s < 172_800 ? `${(s / 3600).toFixed(1)} h` : `${(s / 86_400).toFixed(1)} days`);
+const lifeText = (d) => (d.remainingLifeYears === null ? 'not known yet' : d.remainingLifeYears === 'unbounded' ? 'no damage over the rate window'
+  : `${d.remainingLifeYears >= 100 ? d.remainingLifeYears.toFixed(0) : d.remainingLifeYears.toPrecision(3)} years at the recent rate`);
+
+/** Histogram (bars: cycles per hot-spot range bin) against the S-N curve (cycles to failure), cycles on a log scale. */
+function drawFatigue(svg, d) {
+  svg.replaceChildren();
+  const W = 320, H = 130, L = 34, R = 6, T = 8, B = 18;
+  const title = document.createElementNS(SVG, 'title');
+  title.textContent = `${d.id}: stress-range histogram against the S-N curve`;
+  svg.append(title);
+  const add = (tag, attrs, textContent) => {
+    const e = document.createElementNS(SVG, tag);
+    for (const [k, v] of Object.entries(attrs)) e.setAttribute(k, String(v));
+    if (textContent !== undefined) e.textContent = textContent;
+    svg.append(e);
+    return e;
+  };
+  const last = d.counts.length - 1;
+  let top = 0;
+  d.counts.forEach((c, i) => { if (c > 0) top = Math.max(top, (i + (i === last ? 1.5 : 1)) * d.binWidthMPa); });
+  const at2e6 = d.curve.reduce((best, p) => (Math.abs(Math.log10(p[0] / 2e6)) < Math.abs(Math.log10(best[0] / 2e6)) ? p : best), d.curve[0])[1];
+  const yMax = Math.max(top, 1.25 * at2e6);
+  const x = (n) => L + ((Math.log10(Math.min(Math.max(n, 0.1), 1e9)) + 1) / 10) * (W - L - R);
+  const y = (v) => T + (1 - Math.min(v, yMax) / yMax) * (H - T - B);
+  for (const e of [0, 2, 4, 6, 8]) {
+    add('line', { x1: x(10 ** e), x2: x(10 ** e), y1: T, y2: H - B, class: 'grid' });
+    add('text', { x: x(10 ** e), y: H - 5, 'text-anchor': 'middle', class: 'axis' }, `1e${e}`);
+  }
+  add('text', { x: L - 3, y: y(yMax) + 8, 'text-anchor': 'end', class: 'axis' }, fmt(yMax, 0));
+  add('text', { x: L - 3, y: y(0), 'text-anchor': 'end', class: 'axis' }, '0');
+  add('text', { x: 2, y: T + 40, class: 'axis unit', transform: `rotate(-90 8 ${T + 40})` }, 'MPa');
+  d.counts.forEach((c, i) => {
+    if (!(c > 0)) return;
+    const hi = i === last ? yMax : (i + 1) * d.binWidthMPa;
+    const r = add('rect', { x: L, y: y(hi).toFixed(1), width: Math.max(1, x(c) - L).toFixed(1), height: Math.max(1, y(i * d.binWidthMPa) - y(hi) - 0.5).toFixed(1), class: 'bin' });
+    const t = document.createElementNS(SVG, 'title');
+    t.textContent = `${fmt(i * d.binWidthMPa, 0)}${i === last ? ' MPa and above' : `–${fmt(hi, 0)} MPa`}: ${fmt(c, 1)} cycles`;
+    r.append(t);
+  });
+  add('polyline', { points: d.curve.filter((p) => p[1] <= yMax).map((p) => `${x(p[0]).toFixed(1)},${y(p[1]).toFixed(1)}`).join(' '), class: 'sn-curve' });
+  add('text', { x: W - R, y: H - B - 4, 'text-anchor': 'end', class: 'axis' }, 'cycles (log) · bars: counted · line: S-N curve');
+}
+
+function renderFatigue(view) {
+  const f = view.fatigue;
+  $('fatigue').hidden = f === null || f === undefined;
+  if (!f || page.fatigueAtMs === f.atMs) return;
+  page.fatigueAtMs = f.atMs;
+  $('fatigue-at').textContent = `(figures at ${utc(f.atMs)} UTC, logger time)`;
+  $('fatigue-assumptions').replaceChildren(...f.assumptions.map((a) => el('li', {}, a)));
+  $('fatigue-details').replaceChildren(...f.details.map((d) => {
+    const svg = document.createElementNS(SVG, 'svg');
+    svg.setAttribute('viewBox', '0 0 320 130');
+    svg.setAttribute('class', 'trend fatigue');
+    svg.setAttribute('role', 'img');
+    drawFatigue(svg, d);
+    const rows = [
+      ['damage so far (Miner)', sci(d.damage)],
+      ['damage per monitored day', d.damagePerDay === null ? 'not known yet' : `${sci(d.damagePerDay)} (over ${span(d.rateWindowS)})`],
+      ['remaining life', lifeText(d)],
+      ['cycles counted', fmt(d.cycles, 1)],
+      ['monitored', span(d.monitoredS)],
+      ['not monitored', d.notMonitoredS > 0 ? `${span(d.notMonitoredS)}: no damage counted for it` : '0 s'],
+    ];
+    return el('article', { class: `fatigue-detail${d.notMonitoredS > 0 ? ' attention' : ''}`, 'data-detail': d.id },
+      el('h4', {}, d.id, ' ', el('span', { class: 'kind' }, `group ${d.groupId}`)),
+      el('p', { class: 'loc' }, `${d.location}. ${d.describe}.`),
+      el('dl', { class: 'vals' }, ...rows.flatMap(([k, v]) => [el('dt', {}, k), el('dd', { class: k === 'not monitored' && d.notMonitoredS > 0 ? 'warn' : '' }, v)])),
+      svg);
+  }));
 }
 
 // ---- instruments and processor ------------------------------------------------------------
@@ -331,6 +409,7 @@ function render() {
   if (v.notice) { $('page-notice').textContent = v.notice; $('page-notice').hidden = false; }
   renderAlarms(v);
   renderGroups(v);
+  renderFatigue(v);
   renderLoggers(v);
   renderProcessor(v);
 }
@@ -396,6 +475,7 @@ function connect() {
   };
   es.addEventListener('snapshot', (ev) => {
     page.groups.clear();
+    page.fatigueAtMs = null;
     const v = JSON.parse(ev.data);
     buildGroups(v);
     for (const g of v.groups) mergeTrend(page.groups.get(g.id), g.trend);

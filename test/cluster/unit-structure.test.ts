@@ -42,7 +42,9 @@ describe('splitting a structure into work units', () => {
     const slab = unitStructureConfig(c, new Set(split[1].loggers));
     expect(steel.groups.map((g) => g.id)).toEqual(['web-north-pier', 'web-south-pier', 'flange-north-mid1', 'flange-south-mid1']);
     expect(slab.groups.map((g) => g.id)).toEqual(['slab-mid1']);
-    expect(rulesOf(steel)).toEqual(['steel-von-mises', 'steel-yield-ratio', 'flange-stress-rate']);
+    // The fatigue details sit on the steel flanges: their rules go with the steel unit only.
+    expect(rulesOf(steel)).toEqual(['steel-von-mises', 'steel-yield-ratio', 'flange-stress-rate', 'fatigue-damage-rate', 'fatigue-damage']);
+    expect(slab.fatigue).toBeUndefined();
     // A zone rule goes with every unit that has a group in the zone (the slab is in span-1 too).
     expect(rulesOf(slab)).toEqual(['slab-principal-tension', 'flange-stress-rate']);
     expect(slab.temperature_sensors.map((t) => t.id)).toEqual(['tc-slab-top', 'tc-slab-bottom']);

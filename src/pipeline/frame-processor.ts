@@ -103,6 +103,8 @@ export class FrameProcessor<M> {
   readonly counts: FrameProcessorCounts = { frames: 0, results: 0, withheldResults: 0, heldFrames: 0, temperatureRejected: 0, temperatureSpikes: 0, forcedReleases: 0, heldForScreen: 0, screenTimeouts: 0 };
   private readonly histories = new Map<string, TemperatureHistory>();
   private readonly groups = new Map<string, GroupRuntime>();
+  /** Scratch of releaseReady: per logger, the wait end of the frame it released last in this call. */
+  private readonly releasedAt = new Map<string, number>();
   private readonly held = new Map<string, Array<HeldFrame<M>>>();
   private readonly screen: ChannelScreen;
   private readonly temperatureScreen: TemperatureScreen;
@@ -195,10 +197,41 @@ export class FrameProcessor<M> {
     insertStep(rt.zeroSteps, step);
   }
 
+  /**
+   * Computes every held frame whose wait is over, across loggers in the order the waits ended
+   * (ties by logger id; per logger in arrival order). Any split of time into ticks and arrivals then
+   * releases the same frames in the same order: live ticks fall wherever the timer fires, replay
+   * ticks on a grid of recorded arrival times, and both must give the same output.
+   */
   private releaseReady(clockMs: number, done: ProcessedFrame<M>[]): void {
-    for (const q of this.held.values()) {
-      while (q.length > 0 && !this.mustWait(q[0], clockMs)) done.push(this.compute(q.shift()!));
+    const after = this.releasedAt;
+    after.clear();
+    for (;;) {
+      let best: HeldFrame<M>[] | null = null;
+      let bestKey = Number.POSITIVE_INFINITY;
+      let bestLogger = '';
+      for (const [logger, q] of this.held) {
+        if (q.length === 0 || this.mustWait(q[0], clockMs)) continue;
+        // A frame behind one released now was free no earlier than it.
+        const key = Math.max(Math.min(clockMs, this.waitEndMs(q[0])), after.get(logger) ?? Number.NEGATIVE_INFINITY);
+        if (best === null || key < bestKey || (key === bestKey && logger < bestLogger)) { best = q; bestKey = key; bestLogger = logger; }
+      }
+      if (best === null) return;
+      after.set(bestLogger, bestKey);
+      done.push(this.compute(best.shift()!));
     }
+  }
+
+  /** When a held frame's wait runs out at the latest (pipeline clock): its bounded waits' end. */
+  private waitEndMs(h: HeldFrame<M>): number {
+    const frame = h.frame;
+    let end = frame.arrivalMs;
+    if (h.screen !== null && h.screen.held > 0) end = Math.max(end, frame.arrivalMs + this.screen.maxWaitMs(frame.loggerId));
+    for (const g of this.structure.groupsByLogger.get(frame.loggerId) ?? []) {
+      const join = g.config.temperature;
+      if (join.mode === 'interpolate' && join.max_wait_s > 0 && g.temperatures.length > 0) end = Math.max(end, frame.arrivalMs + join.max_wait_s * 1000);
+    }
+    return end;
   }
 
   private mustWait(h: HeldFrame<M>, clockMs: number): boolean {

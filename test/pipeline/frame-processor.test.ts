@@ -92,3 +92,34 @@ describe('FrameProcessor: a wait that ran out is decided the same with or withou
     expect(run(null)).toEqual(run(6500));
   });
 });
+
+describe('FrameProcessor: release order does not depend on when the clock ticks', () => {
+  /** Gauges on two loggers waiting for the thermocouple on `th`, one for 5 s and one for 2 s. */
+  function twoLoggers() {
+    const wait = (s: number) => ({ mode: 'interpolate', max_age_s: 60, max_wait_s: s });
+    return compileOrThrow(baseDoc(
+      [
+        { id: 'long', kind: 'single', material: 'steel', zone: 'z', location: 'bench', elements: [{ gauge: 'g1' }], temperature_sensors: ['tc'], temperature: wait(5) },
+        { id: 'short', kind: 'single', material: 'steel', zone: 'z', location: 'bench', elements: [{ gauge: 'g2' }], temperature_sensors: ['tc'], temperature: wait(2) },
+      ],
+      [microGauge('g1', 'c1'), { ...microGauge('g2', 'c1'), channel: { logger: 'lg2', channel: 'c1' } }],
+      {
+        loggers: [{ id: 'lg', expected_interval_s: 1 }, { id: 'lg2', expected_interval_s: 1 }, { id: 'th', expected_interval_s: 10 }],
+        temperature_sensors: [{ id: 'tc', kind: 'thermocouple', channel: { logger: 'th', channel: 't' } }],
+      },
+    ));
+  }
+
+  it('releases frames in the order their waits ended, whether one tick or several cover the deadlines', () => {
+    const run = (ticks: number[]) => {
+      const p = new FrameProcessor<string>(twoLoggers());
+      p.onFrame(frame('th', 0, { t: 10 }), 'th0', 0);
+      p.onFrame(frame('lg', 1_000, { c1: 1 }), 'long', 1_000); // waits until 6,000
+      p.onFrame(frame('lg2', 1_500, { c1: 1 }), 'short', 1_500); // waits until 3,500
+      return ticks.flatMap((t) => p.onTick(t)).map((d) => d.message);
+    };
+    // A replay-like clock (one event after both deadlines) and a live-like one (a tick between them).
+    expect(run([7_000])).toEqual(['short', 'long']);
+    expect(run([4_000, 7_000])).toEqual(['short', 'long']);
+  });
+});

@@ -25,7 +25,7 @@ export interface LoadedCluster {
 }
 
 /** Every file a unit writes, moved into its own folder on the shared volume. */
-function unitRuntime(rc: RuntimeConfig, dir: string, clientId: string): RuntimeConfig {
+function unitRuntime(rc: RuntimeConfig, dir: string, clientId: string, unitId: string, split: boolean): RuntimeConfig {
   const inUnit = (p: string): string => resolve(dir, isAbsolute(p) ? p.slice(1) : p.replace(/^(\.\.\/)+/, ''));
   return {
     ...rc,
@@ -35,8 +35,13 @@ function unitRuntime(rc: RuntimeConfig, dir: string, clientId: string): RuntimeC
     alarms: { state_file: inUnit(rc.alarms.state_file), log_file: inUnit(rc.alarms.log_file) },
     ...(rc.capture ? { capture: { ...rc.capture, dir: inUnit(rc.capture.dir) } } : {}),
     ...(rc.database ? { database: { ...rc.database, spool: { ...rc.database.spool, dir: inUnit(rc.database.spool.dir) } } } : {}),
-    // One live page per processor at most, not per unit (a unit moves between processors).
+    fatigue: { ...rc.fatigue, state_file: inUnit(rc.fatigue.state_file) },
+    rezero: { overrides_file: inUnit(rc.rezero.overrides_file), audit_file: inUnit(rc.rezero.audit_file) },
+    // A split structure's units each keep their own open-alarm list.
+    state_topics: split && rc.state_topics.alarms_topic !== '' ? { ...rc.state_topics, alarms_topic: `${rc.state_topics.alarms_topic}/${unitId}` } : rc.state_topics,
+    // One live page and one metrics endpoint per processor at most, not per unit (a unit moves between processors).
     live_page: undefined,
+    metrics: undefined,
   };
 }
 
@@ -76,7 +81,7 @@ export async function loadClusterFile(path: string): Promise<LoadedCluster> {
       const clientId = entry.split === undefined ? loaded.runtime.mqtt.client_id : `${loaded.runtime.mqtt.client_id}-${u.id}`;
       units.push({
         key, structureId: c.structure.id, unitId: u.id, loggers: [...u.loggers],
-        loaded: { runtime: unitRuntime(loaded.runtime, resolve(sharedDir, c.structure.id, u.id), clientId), structure: compiled.structure, baseDir: loaded.baseDir, unit: {
+        loaded: { runtime: unitRuntime(loaded.runtime, resolve(sharedDir, c.structure.id, u.id), clientId, u.id, entry.split !== undefined), structure: compiled.structure, baseDir: loaded.baseDir, unit: {
           id: u.id, loggers: [...u.loggers], groups: compiled.structure.groups.map((g) => g.config.id), first: j === 0,
           structureLoggers: c.loggers.map((l) => l.id), structureGroups: c.groups.map((g) => g.id),
         } },

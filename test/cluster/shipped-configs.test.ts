@@ -19,6 +19,9 @@ describe('shipped scale-out configurations', () => {
     expect(rc.mqtt.max_held_acks).toBeLessThan(8192); // below the NATS max_ack_pending
     expect(rc.alarms.state_file).toMatch(/var\/cluster\/brannock-mere\/brannock-mere\/alarm-state\.json$/);
     expect(rc.database!.spool.dir).toMatch(/var\/cluster\/brannock-mere\/brannock-mere\/spool$/);
+    expect(rc.fatigue.state_file).toMatch(/var\/cluster\/brannock-mere\/brannock-mere\/var\/fatigue-state\.json$/);
+    expect(rc.rezero.audit_file).toMatch(/var\/cluster\/brannock-mere\/brannock-mere\/var\/rezero-audit\.ndjson$/);
+    expect(rc.metrics).toBeUndefined();
   });
 
   for (const i of [1, 2, 3]) {

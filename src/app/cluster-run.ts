@@ -12,6 +12,9 @@ export interface ClusterProcessor {
   stop(): Promise<void>;
 }
 
+/** How long a unit whose lease was lost may take to clean up before the processor joins again. */
+const LOST_STOP_MS = 5_000;
+
 /** etcd key prefix of a cluster. */
 export const clusterPrefix = (name: string): string => `strainward/${name}/`;
 
@@ -42,7 +45,13 @@ export async function startClusterProcessor(cluster: LoadedCluster, deps: LiveDe
     stop: async (key, how) => {
       const live = running.get(key);
       running.delete(key);
-      await live?.stop();
+      if (how === 'release') await live?.stop();
+      else if (live !== undefined) {
+        // Its connections are gone: what it had not acknowledged comes back to the next holder. The
+        // rest is cleanup, given a bounded time so that this processor can join again.
+        const timedOut = await Promise.race([live.stop().then(() => false), new Promise<boolean>((r) => setTimeout(() => r(true), LOST_STOP_MS).unref())]);
+        if (timedOut) (deps.warn ?? deps.log)('unit_stop_timed_out', { unit: key, processor: processorId, after_ms: LOST_STOP_MS });
+      }
       deps.log('unit_stopped', { unit: key, processor: processorId, how });
     },
     log: (event, detail) => (event === 'unit_lost' || event.endsWith('_failed') ? (deps.warn ?? deps.log) : deps.log)(event, detail),

@@ -1,3 +1,5 @@
+import { cp } from 'node:fs/promises';
+import { basename, join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { checkClusterStatus } from '../../src/cli/cluster-status.js';
 import { alarmsRaisedTwice, doubleHolds, holdSpans, startHarness, type Harness, type HarnessOptions } from '../../scripts/cluster/harness.js';
@@ -85,7 +87,12 @@ function cluster(name: string, o: HarnessOptions, faults: (h: Harness, crash: { 
   describe(name, () => {
     let h: Harness;
     beforeAll(async () => { h = await startHarness(o); step('harness up'); }, 180_000);
-    afterAll(async () => { await h?.close(); step('harness closed'); }, 120_000);
+    afterAll(async () => {
+      // The processors' logs, kept for whoever reads a failure (test-artifacts/ is not committed).
+      if (h) await Promise.all(h.logFiles.map((f) => cp(f, join('test-artifacts', `cluster-${o.broker ?? 'mosquitto'}`, basename(f)), { recursive: true }).catch(() => {})));
+      await h?.close();
+      step('harness closed');
+    }, 120_000);
     it('takes a killed holder\'s unit over, and loses, doubles and repeats nothing', async () => {
       const crash = { at: 0, back: 0 };
       // What a crashed node may lose: the seconds before its kill it had not yet written, and its downtime.

@@ -175,6 +175,8 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
     abandon: () => {
       // Later publishes and close() must not wait on a client that is gone.
       endedBy ??= new Error('connection abandoned');
+      // No reconnect after this, even one mqtt.js has already scheduled (a broker node gone).
+      client.options.reconnectPeriod = 0;
       client.end(true);
       subject.complete();
     },

@@ -4,6 +4,7 @@ import { GaugeSchema, TemperatureSensorSchema } from './gauge-schema.js';
 import { GroupSchema } from './group-schema.js';
 import { AlarmsConfigSchema } from '../alarms/schema.js';
 import { FatigueConfigSchema } from './fatigue-schema.js';
+import { StorageConfigSchema } from './storage-schema.js';
 
 /**
  * One instrumented structure: materials, loggers, gauges, temperature sensors and gauge groups.
@@ -34,6 +35,8 @@ export const StructureConfigSchema = z.strictObject({
   alarms: AlarmsConfigSchema.optional(),
   /** Fatigue details: rainflow counting and damage per detail (absent: no fatigue counting). */
   fatigue: FatigueConfigSchema.optional(),
+  /** What goes to the database at what rate: full or per-interval summaries per group, event windows, raw archive (absent: everything in full). */
+  storage: StorageConfigSchema.optional(),
 });
 
 export type StructureConfig = z.infer<typeof StructureConfigSchema>;

@@ -11,7 +11,7 @@ import { FrameProcessor } from '../../src/pipeline/frame-processor.js';
  * document below that either changes an output (the results of a scripted run through the frame
  * processor, and what the alarm engine is told about channels and loggers) or is refused at
  * compilation with a problem naming the key. Free-text annotations are listed as such, with where
- * they are shown. The `alarms` and `fatigue` sections are their modules' schemas, tested by their own tests.
+ * they are shown. The `alarms`, `fatigue` and `storage` sections are their modules' schemas, tested by their own tests.
  */
 
 type Doc = any;
@@ -241,6 +241,7 @@ const TABLE: Record<string, Entry> = {
   }),
   alarms: { change: () => {}, expect: { elsewhere: 'the alarm module\'s schema, with its own tests in test/alarms' } },
   fatigue: { change: () => {}, expect: { elsewhere: 'the fatigue section, compiled and tested in test/fatigue (it changes damage, not the results)' } },
+  storage: { change: () => {}, expect: { elsewhere: 'the storage section, compiled and tested in test/pipeline/storage-*.test.ts (it changes what is written, not the results)' } },
 };
 
 /** Material keys for material `id` of `kind`: the capacities and the shared keys, plus its constants. */
@@ -295,7 +296,7 @@ function schemaKeys(schema: any, path = '', out: string[] = []): string[] {
 }
 
 describe('every key of the structure schema changes an output or is refused', () => {
-  const keys = schemaKeys(StructureConfigSchema).filter((k) => !k.startsWith('alarms.') && !k.startsWith('fatigue.'));
+  const keys = schemaKeys(StructureConfigSchema).filter((k) => !k.startsWith('alarms.') && !k.startsWith('fatigue.') && !k.startsWith('storage.'));
   const base = outputsOf(baseDocument());
 
   it('the base document compiles and runs', () => {

@@ -15,6 +15,9 @@ import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { RETRY_FOREVER, writeAndAck } from '../pipeline/write-and-ack.js';
+import { newStorageCounts, storageInputs, storageStage } from '../pipeline/storage-stage.js';
+import { storageKeepsState, storageOf } from '../config/compile-storage.js';
+import { openStorageState, saveStorageState } from './storage-state-file.js';
 import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
 import { alarmLookups } from './lookups.js';
 import { brokerAccess } from './broker-access.js';
@@ -79,6 +82,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const lookups = alarmLookups(structure);
   const alarmFiles = alarmsCfg === null ? null
     : await openAlarmFiles(alarmsCfg, lookups, resolve(baseDir, rc.alarms.state_file), resolve(baseDir, rc.alarms.log_file), { now: deps.now, log: deps.log });
+  // Open summary intervals and event windows of the previous run (storage-stage.ts, storage-gate.ts).
+  const storage = storageOf(structure);
+  const storageStatePath = resolve(baseDir, rc.storage_state_file);
+  const restoredStorage = storageKeepsState(storage) ? await openStorageState(storageStatePath, structure.structureId, { now: deps.now, log: deps.warn ?? deps.log }) : undefined;
+  const storageCounts = newStorageCounts();
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   // Database, broker and webhooks: each loss and return is one warning line and one component alarm.
@@ -181,7 +189,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const writeFailures = failureSummary(deps.log, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
-    processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {
+    storageInputs(processed$, alarmWiring?.transitions$).pipe(storageStage({
+      storage, structureId: structure.structureId, lines: { elementStrains: rc.results.element_strains }, restored: restoredStorage,
+      persist: storageKeepsState(storage) ? (json) => saveStorageState(storageStatePath, json) : undefined, flushOnComplete: false,
+      until: stopped$, counts: storageCounts, onError: (err) => deps.log('storage_state_failed', { message: err instanceof Error ? err.message : String(err) }),
+    }), writeAndAck(sink, {}, 2048, (err) => {
       writeErrors++;
       writeFailures.note(err instanceof Error ? err.message : String(err));
     }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
@@ -197,6 +209,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     lineFiles: lineFiles?.status() ?? null,
     mqtt: connection.stats(),
     alarms: alarmWiring?.counts() ?? null,
+    storage: { ...storageCounts },
   });
   const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();

@@ -14,6 +14,8 @@ import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { writeAndAck } from '../pipeline/write-and-ack.js';
+import { newStorageCounts, storageInputs, storageStage, type StorageCounts } from '../pipeline/storage-stage.js';
+import { storageOf } from '../config/compile-storage.js';
 import { replaySource } from './replay-source.js';
 
 export interface ReplayOptions {
@@ -50,6 +52,8 @@ export interface ReplaySummary {
   collected: GroupResult[];
   /** Alarm transitions, in order (when alarms ran). */
   transitions: AlarmTransition[];
+  /** What the storage stage wrote (summaries, windows, late results). */
+  storage: StorageCounts;
 }
 
 /**
@@ -88,11 +92,18 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
       pointTags: { run: o.runTag }, webhook: 'record', onBatch: (b) => { transitions.push(...b.transitions); },
     })
     : null;
-  await lastValueFrom(processed$.pipe(
+  const storage = newStorageCounts();
+  // The same storage stage as live; open intervals are written at the end (no state file: a replay starts and ends whole).
+  await lastValueFrom(storageInputs(processed$.pipe(
     tap((p) => { if (o.collectResults && p.kind === 'frame') collected.push(...p.results); }),
-    writeAndAck(o.sink, { extraTags: { run: o.runTag }, elementStrains: o.elementStrains }, 2048, () => { writeErrors++; }),
+  ), wiring?.transitions$).pipe(
+    storageStage({
+      storage: storageOf(o.structure), structureId: o.structure.structureId, lines: { extraTags: { run: o.runTag }, elementStrains: o.elementStrains },
+      flushOnComplete: true, counts: storage,
+    }),
+    writeAndAck(o.sink, {}, 2048, () => { writeErrors++; }),
   ), { defaultValue: null });
   await wiring?.close();
   await o.sink.close();
-  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions };
+  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions, storage };
 }

@@ -46,6 +46,16 @@ export interface CompiledStorage {
   anySummary: boolean;
 }
 
+/** The structure's compiled storage, or the default (everything full) for a structure built by hand. */
+export function storageOf(structure: { config: StructureConfig; storage?: CompiledStorage }): CompiledStorage {
+  return structure.storage ?? compileStorage(structure.config, undefined).storage!;
+}
+
+/** True when the storage stage keeps state worth persisting (some series is summarised). */
+export function storageKeepsState(s: CompiledStorage): boolean {
+  return s.anySummary || s.raw.store === 'summary';
+}
+
 /** Bytes of one ring slot: time, seq, quality bits, one value per result quantity, one per element. */
 export function ringSlotBytes(elements: number): number {
   return 8 * (3 + RESULT_QUANTITIES.length + elements);

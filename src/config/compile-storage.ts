@@ -61,7 +61,12 @@ export function ringSlotBytes(elements: number): number {
   return 8 * (3 + RESULT_QUANTITIES.length + elements);
 }
 
-/** Default ring size: twice the scans a logger makes in `before_s`, so jitter and bursts fit; at least 16. */
+/**
+ * Results a ring keeps past `before_s`: a window opened by a group whose results run ahead (the
+ * others wait for temperature, or their logger lags) still finds the part before the trigger.
+ */
+export const RING_SLACK_MS = 5_000;
+/** Default ring size: 1.5 times the scans a logger makes in `before_s` plus the slack, so jitter and bursts fit; at least 16. */
 const RING_CAP = 200_000;
 
 /** Compiles the `storage` section (absent: everything full, as before it existed). Pure; every problem at once. */
@@ -90,7 +95,7 @@ export function compileStorage(c: StructureConfig, given: StorageConfig | undefi
     const o = overrides.get(g.id);
     const summary = (o?.results ?? s.default.results) === 'summary';
     const loggerId = gaugeLogger.get(g.elements[0].gauge) ?? '';
-    const scansBefore = Math.ceil((w.before_s / (loggerInterval.get(loggerId) ?? 1)) * 2);
+    const scansBefore = Math.ceil(((w.before_s + RING_SLACK_MS / 1000) / (loggerInterval.get(loggerId) ?? 1)) * 1.5);
     groups.set(g.id, {
       groupId: g.id, zone: g.zone, loggerId,
       summaryIntervalMs: summary ? Math.round((o?.interval_s ?? s.default.interval_s) * 1000) : null,

@@ -1,7 +1,7 @@
 import { Observable, type OperatorFunction } from 'rxjs';
 import type { AlarmSubject, AlarmTransition } from '../alarms/types.js';
 import { newSampleWindow, pushSample, slopePerS, type SampleWindow } from '../alarms/engine/sample-window.js';
-import type { CompiledStorage, CompiledTrigger } from '../config/compile-storage.js';
+import { RING_SLACK_MS, type CompiledStorage, type CompiledTrigger } from '../config/compile-storage.js';
 import type { LineBlock } from '../model/point.js';
 import { qualityBits } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
@@ -12,7 +12,7 @@ import type { FrameOutput } from './process-frames.js';
 import { StorageGate, type GatedAck } from './storage-gate.js';
 import { STORAGE_STATE_VERSION, type StorageState } from './storage-state.js';
 import {
-  closeInterval, foldValue, newSummarySeries, noteFolded, placeSample, seriesFromJson, seriesToJson, silentLongEnough, type SummarySeries,
+  closeInterval, foldValue, isOpen, newSummarySeries, noteFolded, placeSample, seriesFromJson, seriesToJson, type SummarySeries,
 } from './summary-accumulator.js';
 import { intervalTag, rawSummaryKeys, writeRawSummary, writeResultSummary } from './summary-lines.js';
 
@@ -66,6 +66,7 @@ export const newStorageCounts = (): StorageCounts => ({
 });
 
 interface GroupStore {
+  loggerId: string;
   series: SummarySeries | null;
   key: Buffer | null;
   ring: ResultRing | null;
@@ -103,6 +104,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       const summary = g.summaryIntervalMs !== null;
       const triggers = cfg.triggers.filter((t) => t.groups.has(g.groupId));
       groups.set(g.groupId, {
+        loggerId: g.loggerId,
         series: summary ? newSummarySeries(Q, g.summaryIntervalMs!) : null,
         key: summary ? w.seriesKey('sw_summary', [['structure', deps.structureId], ['group', g.groupId], ['zone', g.zone], ['logger', g.loggerId], ['interval', intervalTag(g.summaryIntervalMs!)]]) : null,
         ring: summary && g.ringCapacity > 0 ? newResultRing(deps.structureId, g.groupId, g.zone, g.loggerId, g.elementGauges, g.ringCapacity) : null,
@@ -119,7 +121,13 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
     }
     counts.ringBytes = [...groups.values()].reduce((s, g) => s + (g.ring?.data.byteLength ?? 0), 0);
     let clockMs = Number.NEGATIVE_INFINITY;
+    let startClockMs = Number.NaN;
     let lastTimeMs = 0;
+    // Per logger: frames received and not yet computed (held for temperature or a reading's verdict), and the clock at the last arrival.
+    const pending = new Map<string, number>();
+    const lastArrivalMs = new Map<string, number>();
+    /** Nothing more can come for the logger's open intervals: nothing held, and silent for closeAfterMs (counted from this start at first). */
+    const silent = (loggerId: string): boolean => (pending.get(loggerId) ?? 0) === 0 && clockMs - (lastArrivalMs.get(loggerId) ?? startClockMs) >= cfg.closeAfterMs;
 
     const snapshot = (): string => {
       const state: StorageState = { version: STORAGE_STATE_VERSION, structure: deps.structureId, groups: {}, loggers: {} };
@@ -194,10 +202,10 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
           if (v !== undefined) foldValue(s, q, v, r.timeMs);
         }
       }
-      noteFolded(series, r.timeMs, clockMs);
+      noteFolded(series, r.timeMs);
       if (inWindow(g.window, r.timeMs)) writeWindowed(r);
       else if (g.ring !== null) {
-        ringDropBefore(g.ring, r.timeMs - cfg.beforeMs);
+        ringDropBefore(g.ring, r.timeMs - cfg.beforeMs - RING_SLACK_MS);
         ringPush(g.ring, r);
       }
     };
@@ -221,18 +229,18 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
         if (v !== null && v !== undefined && Number.isFinite(v)) foldValue(s, q, v, f.timeMs);
       }
       foldValue(s, channels.length, f.arrivalMs - f.timeMs, f.timeMs);
-      noteFolded(l.series, f.timeMs, clockMs);
+      noteFolded(l.series, f.timeMs);
     };
-    /** Writes every open interval silent for `closeAfterMs` (all of them with `all`). */
+    /** Writes every open interval whose logger is silent (all of them with `all`). */
     const closeSilent = (all: boolean) => {
       for (const g of groups.values()) {
-        if (g.series === null || !(all ? !Number.isNaN(g.series.stats.startMs) : silentLongEnough(g.series, clockMs, cfg.closeAfterMs))) continue;
+        if (g.series === null || !isOpen(g.series) || !(all || silent(g.loggerId))) continue;
         writeResultSummary(w, g.key!, g.series.stats);
         counts.summaryLines++;
         closeInterval(g.series, Number.NaN);
       }
-      for (const l of loggers.values()) {
-        if (!(all ? !Number.isNaN(l.series.stats.startMs) : silentLongEnough(l.series, clockMs, cfg.closeAfterMs))) continue;
+      for (const [loggerId, l] of loggers) {
+        if (!isOpen(l.series) || !(all || silent(loggerId))) continue;
         writeRawSummary(w, l.key, l.keys, l.series.stats);
         counts.rawSummaryLines++;
         closeInterval(l.series, Number.NaN);
@@ -268,11 +276,18 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
           emit(null, lastTimeMs);
         } else if (input.kind === 'tick') {
           if (input.nowMs > clockMs) clockMs = input.nowMs;
+          if (Number.isNaN(startClockMs)) startClockMs = clockMs;
           closeSilent(false);
           emit(null, lastTimeMs);
         } else if (input.kind === 'received') {
-          if (input.frame.arrivalMs > clockMs) clockMs = input.frame.arrivalMs;
+          const f = input.frame;
+          if (f.arrivalMs > clockMs) clockMs = f.arrivalMs;
+          if (Number.isNaN(startClockMs)) startClockMs = clockMs;
+          pending.set(f.loggerId, (pending.get(f.loggerId) ?? 0) + 1);
+          lastArrivalMs.set(f.loggerId, clockMs);
         } else if (input.kind === 'frame') {
+          const loggerId = input.frame.loggerId;
+          pending.set(loggerId, (pending.get(loggerId) ?? 1) - 1);
           const results = input.results;
           for (let i = 0; i < results.length; i++) {
             const g = groups.get(results[i].groupId);

@@ -18,7 +18,6 @@ const SeriesSchema = z.strictObject({
   values: z.record(z.string().regex(/^\d+$/), z.tuple([z.number().min(1), z.number(), z.number(), z.number(), z.number(), z.number(), z.number()])),
   lastFoldedMs: nullableNumber,
   closedThroughMs: nullableNumber,
-  lastFoldClockMs: nullableNumber,
 }) satisfies z.ZodType<SummarySeriesJson>;
 
 export const StorageStateSchema = z.strictObject({

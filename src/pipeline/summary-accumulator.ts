@@ -31,8 +31,6 @@ export interface SummarySeries {
   lastFoldedMs: number;
   /** End of the last interval written, ms: a sample before it is late too (its interval is already stored). */
   closedThroughMs: number;
-  /** Pipeline clock at the last fold, ms: a series silent for long enough has its interval written without waiting for more data. */
-  lastFoldClockMs: number;
 }
 
 export function newIntervalStats(quantities: number): IntervalStats {
@@ -49,7 +47,7 @@ export function newIntervalStats(quantities: number): IntervalStats {
 export function newSummarySeries(quantities: number, intervalMs: number): SummarySeries {
   return {
     intervalMs, stats: newIntervalStats(quantities),
-    lastFoldedMs: Number.NEGATIVE_INFINITY, closedThroughMs: Number.NEGATIVE_INFINITY, lastFoldClockMs: Number.NEGATIVE_INFINITY,
+    lastFoldedMs: Number.NEGATIVE_INFINITY, closedThroughMs: Number.NEGATIVE_INFINITY,
   };
 }
 
@@ -116,14 +114,13 @@ export function closeInterval(series: SummarySeries, nextMs: number): void {
 }
 
 /** Book-keeping of a folded sample (call after its values are folded). */
-export function noteFolded(series: SummarySeries, tMs: number, clockMs: number): void {
+export function noteFolded(series: SummarySeries, tMs: number): void {
   series.lastFoldedMs = tMs;
-  series.lastFoldClockMs = clockMs;
 }
 
-/** True when the series has an open interval and has been silent for `closeAfterMs` of pipeline clock. */
-export function silentLongEnough(series: SummarySeries, clockMs: number, closeAfterMs: number): boolean {
-  return !Number.isNaN(series.stats.startMs) && clockMs - series.lastFoldClockMs >= closeAfterMs;
+/** True while an interval is open. */
+export function isOpen(series: SummarySeries): boolean {
+  return !Number.isNaN(series.stats.startMs);
 }
 
 /** A series as plain JSON (the storage state file): only quantities with values; infinities as null. */
@@ -137,7 +134,6 @@ export interface SummarySeriesJson {
   values: Record<string, [number, number, number, number, number, number, number]>;
   lastFoldedMs: number | null;
   closedThroughMs: number | null;
-  lastFoldClockMs: number | null;
 }
 
 const finiteOrNull = (x: number): number | null => (Number.isFinite(x) ? x : null);
@@ -150,7 +146,7 @@ export function seriesToJson(series: SummarySeries): SummarySeriesJson {
   }
   return {
     intervalMs: series.intervalMs, startMs: finiteOrNull(s.startMs), trusted: s.trusted, flagged: s.flagged, flagBits: s.flagBits, values,
-    lastFoldedMs: finiteOrNull(series.lastFoldedMs), closedThroughMs: finiteOrNull(series.closedThroughMs), lastFoldClockMs: finiteOrNull(series.lastFoldClockMs),
+    lastFoldedMs: finiteOrNull(series.lastFoldedMs), closedThroughMs: finiteOrNull(series.closedThroughMs),
   };
 }
 
@@ -169,5 +165,4 @@ export function seriesFromJson(series: SummarySeries, j: SummarySeriesJson): voi
   }
   series.lastFoldedMs = j.lastFoldedMs ?? Number.NEGATIVE_INFINITY;
   series.closedThroughMs = j.closedThroughMs ?? Number.NEGATIVE_INFINITY;
-  series.lastFoldClockMs = j.lastFoldClockMs ?? Number.NEGATIVE_INFINITY;
 }

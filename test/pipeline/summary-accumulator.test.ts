@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
-  closeInterval, foldValue, intervalStart, newSummarySeries, noteFolded, placeSample, seriesFromJson, seriesToJson, silentLongEnough, stdOf,
+  closeInterval, foldValue, intervalStart, isOpen, newSummarySeries, noteFolded, placeSample, seriesFromJson, seriesToJson, stdOf,
 } from '../../src/pipeline/summary-accumulator.js';
 
 /** A small deterministic generator (LCG, Numerical Recipes constants, from memory) for test values. */
@@ -27,7 +27,7 @@ describe('summary accumulator: statistics of one interval', () => {
       const t = 1_700_000_000_000 + i;
       expect(placeSample(series, t)).toBe('fold');
       foldValue(series.stats, 0, x, t);
-      noteFolded(series, t, t);
+      noteFolded(series, t);
       xs.push(x); ts.push(t);
     }
     const s = series.stats;
@@ -67,11 +67,11 @@ describe('summary accumulator: intervals on logger time', () => {
     const series = newSummarySeries(1, 1000);
     expect(placeSample(series, 1500)).toBe('fold');
     expect(series.stats.startMs).toBe(1000);
-    noteFolded(series, 1500, 1500);
+    noteFolded(series, 1500);
     expect(placeSample(series, 1500)).toBe('late'); // repeated
     expect(placeSample(series, 1200)).toBe('late'); // older
     expect(placeSample(series, 1999)).toBe('fold');
-    noteFolded(series, 1999, 1999);
+    noteFolded(series, 1999);
     expect(placeSample(series, 2000)).toBe('close');
     closeInterval(series, 2000);
     expect(series.stats.startMs).toBe(2000);
@@ -81,13 +81,13 @@ describe('summary accumulator: intervals on logger time', () => {
 
   it('an interval closed for silence makes a later sample of it late (it is already stored)', () => {
     const series = newSummarySeries(1, 1000);
+    expect(isOpen(series)).toBe(false);
     placeSample(series, 100);
-    noteFolded(series, 100, 5000);
-    expect(silentLongEnough(series, 9999, 5000)).toBe(false);
-    expect(silentLongEnough(series, 10_000, 5000)).toBe(true);
+    noteFolded(series, 100);
+    expect(isOpen(series)).toBe(true);
     closeInterval(series, Number.NaN);
     expect(series.stats.startMs).toBeNaN();
-    expect(silentLongEnough(series, 99_999, 5000)).toBe(false);
+    expect(isOpen(series)).toBe(false);
     expect(placeSample(series, 900)).toBe('late');
     expect(placeSample(series, 1000)).toBe('fold');
   });
@@ -96,7 +96,7 @@ describe('summary accumulator: intervals on logger time', () => {
     const next = lcg(3);
     const a = newSummarySeries(3, 10_000);
     placeSample(a, 20_000);
-    for (let i = 0; i < 50; i++) { foldValue(a.stats, 1, next() * 100 - 50, 20_000 + i); noteFolded(a, 20_000 + i, 90_000 + i); }
+    for (let i = 0; i < 50; i++) { foldValue(a.stats, 1, next() * 100 - 50, 20_000 + i); noteFolded(a, 20_000 + i); }
     a.stats.trusted = 50; a.stats.flagged = 2; a.stats.flagBits = 0b101;
     const b = newSummarySeries(3, 1);
     seriesFromJson(b, JSON.parse(JSON.stringify(seriesToJson(a))));

@@ -183,7 +183,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       const g = groups.get(r.groupId);
       const series = g?.series ?? null;
       if (g === undefined || series === null) { w.result(r); return; }
-      const place = placeSample(series, r.timeMs);
+      const place = placeSample(series, r.timeMs, r.seq);
       if (place === 'late') { counts.lateResults++; w.result(r); return; }
       const s = series.stats;
       if (place === 'close') {
@@ -202,7 +202,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
           if (v !== undefined) foldValue(s, q, v, r.timeMs);
         }
       }
-      noteFolded(series, r.timeMs);
+      noteFolded(series, r.timeMs, r.seq);
       if (inWindow(g.window, r.timeMs)) writeWindowed(r);
       else if (g.ring !== null) {
         ringDropBefore(g.ring, r.timeMs - cfg.beforeMs - RING_SLACK_MS);
@@ -214,7 +214,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       if (cfg.raw.store === 'off') return;
       const l = loggers.get(f.loggerId);
       if (l === undefined) { w.raw(f); return; }
-      const place = placeSample(l.series, f.timeMs);
+      const place = placeSample(l.series, f.timeMs, f.seq);
       if (place === 'late') { counts.lateResults++; w.raw(f); return; }
       const s = l.series.stats;
       if (place === 'close') {
@@ -229,7 +229,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
         if (v !== null && v !== undefined && Number.isFinite(v)) foldValue(s, q, v, f.timeMs);
       }
       foldValue(s, channels.length, f.arrivalMs - f.timeMs, f.timeMs);
-      noteFolded(l.series, f.timeMs);
+      noteFolded(l.series, f.timeMs, f.seq);
     };
     /** Writes every open interval whose logger is silent (all of them with `all`). */
     const closeSilent = (all: boolean) => {

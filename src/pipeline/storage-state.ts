@@ -17,6 +17,7 @@ const SeriesSchema = z.strictObject({
   flagBits: z.number().int().min(0),
   values: z.record(z.string().regex(/^\d+$/), z.tuple([z.number().min(1), z.number(), z.number(), z.number(), z.number(), z.number(), z.number()])),
   lastFoldedMs: nullableNumber,
+  lastFoldedSeq: nullableNumber,
   closedThroughMs: nullableNumber,
 }) satisfies z.ZodType<SummarySeriesJson>;
 

@@ -27,8 +27,13 @@ export interface IntervalStats {
 export interface SummarySeries {
   intervalMs: number;
   stats: IntervalStats;
-  /** Logger time of the last sample folded, ms; a sample at or before it is late (a redelivery, a repeated scan, a clock gone back). */
+  /**
+   * Logger time and sequence number of the last sample folded: a sample before it is late (a
+   * redelivery, a clock gone back), and so is one at the same time unless its seq is higher (two
+   * scans in one millisecond); without a seq, the same time is a repeat.
+   */
   lastFoldedMs: number;
+  lastFoldedSeq: number;
   /** End of the last interval written, ms: a sample before it is late too (its interval is already stored). */
   closedThroughMs: number;
 }
@@ -47,7 +52,7 @@ export function newIntervalStats(quantities: number): IntervalStats {
 export function newSummarySeries(quantities: number, intervalMs: number): SummarySeries {
   return {
     intervalMs, stats: newIntervalStats(quantities),
-    lastFoldedMs: Number.NEGATIVE_INFINITY, closedThroughMs: Number.NEGATIVE_INFINITY,
+    lastFoldedMs: Number.NEGATIVE_INFINITY, lastFoldedSeq: Number.NaN, closedThroughMs: Number.NEGATIVE_INFINITY,
   };
 }
 
@@ -91,13 +96,20 @@ export function stdOf(s: IntervalStats, q: number): number {
 
 export type Placement = 'late' | 'fold' | 'close';
 
+/** True when (tMs, seq) comes after the last folded sample. */
+function afterLastFolded(series: SummarySeries, tMs: number, seq: number | null): boolean {
+  if (tMs !== series.lastFoldedMs) return tMs > series.lastFoldedMs;
+  return seq !== null && seq > series.lastFoldedSeq;
+}
+
 /**
- * Where a sample at logger time tMs goes: `late` (not folded: at or before the last folded
- * sample, or in an interval already written), `fold` into the open interval (opened here if none
- * is), or `close`: the open interval ends before it, so write it, `openInterval`, then fold.
+ * Where a sample at logger time tMs (with the scan's seq) goes: `late` (not folded: not after the
+ * last folded sample, or in an interval already written), `fold` into the open interval (opened
+ * here if none is), or `close`: the open interval ends before it, so write it, `closeInterval`,
+ * then fold.
  */
-export function placeSample(series: SummarySeries, tMs: number): Placement {
-  if (!(tMs > series.lastFoldedMs) || tMs < series.closedThroughMs) return 'late';
+export function placeSample(series: SummarySeries, tMs: number, seq: number | null = null): Placement {
+  if (!afterLastFolded(series, tMs, seq) || tMs < series.closedThroughMs) return 'late';
   const s = series.stats;
   if (Number.isNaN(s.startMs)) {
     resetInterval(s, intervalStart(tMs, series.intervalMs));
@@ -114,8 +126,9 @@ export function closeInterval(series: SummarySeries, nextMs: number): void {
 }
 
 /** Book-keeping of a folded sample (call after its values are folded). */
-export function noteFolded(series: SummarySeries, tMs: number): void {
+export function noteFolded(series: SummarySeries, tMs: number, seq: number | null = null): void {
   series.lastFoldedMs = tMs;
+  series.lastFoldedSeq = seq ?? Number.NaN;
 }
 
 /** True while an interval is open. */
@@ -133,6 +146,7 @@ export interface SummarySeriesJson {
   /** Quantity index -> [count, mean, m2, min, max, minAtMs, maxAtMs]. */
   values: Record<string, [number, number, number, number, number, number, number]>;
   lastFoldedMs: number | null;
+  lastFoldedSeq: number | null;
   closedThroughMs: number | null;
 }
 
@@ -146,7 +160,7 @@ export function seriesToJson(series: SummarySeries): SummarySeriesJson {
   }
   return {
     intervalMs: series.intervalMs, startMs: finiteOrNull(s.startMs), trusted: s.trusted, flagged: s.flagged, flagBits: s.flagBits, values,
-    lastFoldedMs: finiteOrNull(series.lastFoldedMs), closedThroughMs: finiteOrNull(series.closedThroughMs),
+    lastFoldedMs: finiteOrNull(series.lastFoldedMs), lastFoldedSeq: finiteOrNull(series.lastFoldedSeq), closedThroughMs: finiteOrNull(series.closedThroughMs),
   };
 }
 
@@ -164,5 +178,6 @@ export function seriesFromJson(series: SummarySeries, j: SummarySeriesJson): voi
     [s.count[q], s.mean[q], s.m2[q], s.min[q], s.max[q], s.minAtMs[q], s.maxAtMs[q]] = v;
   }
   series.lastFoldedMs = j.lastFoldedMs ?? Number.NEGATIVE_INFINITY;
+  series.lastFoldedSeq = j.lastFoldedSeq ?? Number.NaN;
   series.closedThroughMs = j.closedThroughMs ?? Number.NEGATIVE_INFINITY;
 }

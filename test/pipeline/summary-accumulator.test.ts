@@ -79,6 +79,19 @@ describe('summary accumulator: intervals on logger time', () => {
     expect(placeSample(series, 2000)).toBe('fold');
   });
 
+  it('two scans in one millisecond are told apart by their seq; a repeated one (same time and seq, or no seq) is late', () => {
+    const series = newSummarySeries(1, 1000);
+    expect(placeSample(series, 100, 7)).toBe('fold');
+    noteFolded(series, 100, 7);
+    expect(placeSample(series, 100, 7)).toBe('late');
+    expect(placeSample(series, 100, 6)).toBe('late');
+    expect(placeSample(series, 100, null)).toBe('late');
+    expect(placeSample(series, 100, 8)).toBe('fold');
+    noteFolded(series, 100, null);
+    expect(placeSample(series, 100, 9)).toBe('late'); // nothing to compare with: a repeat
+    expect(placeSample(series, 101, null)).toBe('fold');
+  });
+
   it('an interval closed for silence makes a later sample of it late (it is already stored)', () => {
     const series = newSummarySeries(1, 1000);
     expect(isOpen(series)).toBe(false);

@@ -17,7 +17,7 @@ import type { FrameOutput } from '../pipeline/process-frames.js';
 import { RETRY_FOREVER, writeAndAck } from '../pipeline/write-and-ack.js';
 import { newStorageCounts, storageInputs, storageStage } from '../pipeline/storage-stage.js';
 import { storageKeepsState, storageOf } from '../config/compile-storage.js';
-import { openStorageState, spacedStorageSaver } from './storage-state-file.js';
+import { openStorageState, saveStorageState, STORAGE_STATE_SPACING_MS } from './storage-state-file.js';
 import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
 import { alarmLookups } from './lookups.js';
 import { brokerAccess } from './broker-access.js';
@@ -191,8 +191,8 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const drained = new Promise<void>((resolveDrained) => {
     storageInputs(processed$, alarmWiring?.transitions$).pipe(storageStage({
       storage, structureId: structure.structureId, lines: { elementStrains: rc.results.element_strains }, restored: restoredStorage,
-      persist: storageKeepsState(storage) ? spacedStorageSaver(storageStatePath, deps.now) : undefined, flushOnComplete: false,
-      until: stopped$, counts: storageCounts, onError: (err) => deps.log('storage_state_failed', { message: err instanceof Error ? err.message : String(err) }),
+      persist: storageKeepsState(storage) ? (json) => saveStorageState(storageStatePath, json) : undefined, flushOnComplete: false,
+      until: stopped$, counts: storageCounts, checkpointSpacing: { ms: STORAGE_STATE_SPACING_MS, scheduler: deps.scheduler ?? asyncScheduler }, onError: (err) => deps.log('storage_state_failed', { message: err instanceof Error ? err.message : String(err) }),
     }), writeAndAck(sink, {}, 2048, (err) => {
       writeErrors++;
       writeFailures.note(err instanceof Error ? err.message : String(err));

@@ -9,6 +9,8 @@
  * late there (summary-accumulator.ts): not folded again.
  * Without persistence (replay) the same gate only orders the acknowledgements. No I/O of its own.
  */
+import type { SchedulerLike, Subscription } from 'rxjs';
+
 export interface GatedAck {
   /** The item's lines are durable. */
   ack(): void;
@@ -16,9 +18,12 @@ export interface GatedAck {
   nack(): void;
 }
 
+/** What an item releases once persisted: a message (null: a block without one). */
+export type Releasable = { ack(): void } | null;
+
 interface Epoch {
   outstanding: number;
-  acks: Array<(() => void) | null>;
+  acks: Releasable[];
   json: string | null;
   /** The snapshot failed: the epoch is never persisted, its messages never acknowledged by this gate. */
   failed: unknown;
@@ -40,37 +45,40 @@ export class StorageGate {
   /** Given up: what is not persisted stays unacknowledged. */
   private givenUp = false;
   private drainWaiters: Array<() => void> = [];
+  private lastSealMs = Number.NEGATIVE_INFINITY;
+  private sealTimer: Subscription | null = null;
 
   /**
    * @param snapshot the stage's state as JSON (called when an epoch is sealed)
    * @param persist writes it durably; null: nothing is persisted (replay)
+   * @param spacing seals at most once per `ms` of the scheduler's clock (each seal serialises the
+   *   state); null: as soon as the previous epoch is persisted
    */
   constructor(
     private readonly snapshot: () => string,
     private readonly persist: ((json: string) => Promise<void>) | null,
     private readonly onError: (err: unknown) => void = () => {},
+    private readonly spacing: { ms: number; scheduler: SchedulerLike } | null = null,
   ) {}
 
-  /** An item emitted now; `ack` is its message's acknowledgement (null: a block without a message). */
-  item(ack: (() => void) | null): GatedAck {
+  /** An item emitted now, releasing `message` once persisted (null: a block without a message). */
+  item(message: Releasable): GatedAck {
     const epoch = this.current;
-    const index = epoch.acks.length;
-    epoch.acks.push(ack);
+    epoch.acks.push(message);
     epoch.outstanding++;
-    let settled = false;
-    const settle = (durable: boolean) => {
-      if (settled) return;
-      settled = true;
-      if (!durable) epoch.acks[index] = null;
-      epoch.outstanding--;
-      this.advance();
-    };
-    return { ack: () => settle(true), nack: () => settle(false) };
+    return new GateItem(this, epoch, epoch.acks.length - 1);
+  }
+
+  /** @internal GateItem's settlement. */
+  settle(epoch: Epoch, index: number, durable: boolean): void {
+    if (!durable) epoch.acks[index] = null;
+    epoch.outstanding--;
+    this.advance();
   }
 
   /** Between inputs: seals the current epoch when nothing else is waiting to be persisted. */
   poke(): void {
-    if (this.sealed === null && this.current.acks.length > 0 && !this.givenUp) {
+    if (this.sealed === null && this.current.acks.length > 0 && !this.givenUp && this.spacedOut()) {
       this.sealed = this.current;
       this.current = newEpoch();
       try {
@@ -80,6 +88,19 @@ export class StorageGate {
       }
     }
     this.advance();
+  }
+
+  /** True when a seal may happen now; otherwise one is scheduled for when it may. */
+  private spacedOut(): boolean {
+    if (this.spacing === null) return true;
+    const { ms, scheduler } = this.spacing;
+    const wait = this.lastSealMs + ms - scheduler.now();
+    if (wait <= 0) {
+      this.lastSealMs = scheduler.now();
+      return true;
+    }
+    this.sealTimer ??= scheduler.schedule(() => { this.sealTimer = null; this.poke(); }, wait);
+    return false;
   }
 
   /**
@@ -100,7 +121,9 @@ export class StorageGate {
   }
 
   private idle(): boolean {
-    return this.givenUp || (this.sealed === null && this.current.acks.length === 0 && !this.writing);
+    const idle = this.givenUp || (this.sealed === null && this.current.acks.length === 0 && !this.writing);
+    if (idle) { this.sealTimer?.unsubscribe(); this.sealTimer = null; }
+    return idle;
   }
 
   private advance(): void {
@@ -114,7 +137,7 @@ export class StorageGate {
         this.lastPersistFailed = false;
         if (this.persist !== null) this.counts.checkpoints++;
         this.sealed = null;
-        if (!this.givenUp) for (const ack of epoch.acks) ack?.();
+        if (!this.givenUp) for (const message of epoch.acks) message?.ack();
         this.poke();
       }, (err: unknown) => {
         // Kept sealed and tried again at the next input or tick; its messages wait (nothing is lost).
@@ -135,6 +158,19 @@ export class StorageGate {
     const waiters = this.drainWaiters;
     this.drainWaiters = [];
     for (const w of waiters) w();
+  }
+}
+
+/** One item's handle (a class: one object per block, no closures). */
+class GateItem implements GatedAck {
+  private settled = false;
+  constructor(private readonly gate: StorageGate, private readonly epoch: Epoch, private readonly index: number) {}
+  ack(): void { this.done(true); }
+  nack(): void { this.done(false); }
+  private done(durable: boolean): void {
+    if (this.settled) return;
+    this.settled = true;
+    this.gate.settle(this.epoch, this.index, durable);
   }
 }
 

@@ -1,4 +1,4 @@
-import { Observable, type OperatorFunction } from 'rxjs';
+import { Observable, type OperatorFunction, type SchedulerLike } from 'rxjs';
 import type { AlarmSubject, AlarmTransition } from '../alarms/types.js';
 import { newSampleWindow, pushSample, slopePerS, type SampleWindow } from '../alarms/engine/sample-window.js';
 import { RING_SLACK_MS, type CompiledStorage, type CompiledTrigger } from '../config/compile-storage.js';
@@ -59,6 +59,8 @@ export interface StorageStageDeps {
   until?: Observable<unknown>;
   counts?: StorageCounts;
   onError?: (err: unknown) => void;
+  /** With `persist`: states are taken at most once per `ms` of this scheduler's clock (each is a JSON of every open interval). */
+  checkpointSpacing?: { ms: number; scheduler: SchedulerLike };
 }
 
 export const newStorageCounts = (): StorageCounts => ({
@@ -137,7 +139,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       for (const [id, l] of loggers) state.loggers[id] = seriesToJson(l.series);
       return JSON.stringify(state);
     };
-    const gate = new StorageGate(snapshot, deps.persist ?? null, deps.onError);
+    const gate = new StorageGate(snapshot, deps.persist ?? null, deps.onError, deps.persist === undefined ? null : deps.checkpointSpacing ?? null);
     const syncCounts = () => {
       counts.checkpoints = gate.counts.checkpoints;
       counts.checkpointFailures = gate.counts.checkpointFailures;
@@ -145,10 +147,10 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       for (const g of groups.values()) over += g.ring?.overwritten ?? 0;
       counts.ringOverwritten = over;
     };
-    /** Emits what was written since the last take, gated by `ack` (null: a block without a message). */
-    const emit = (ack: (() => void) | null, timeMs: number) => {
+    /** Emits what was written since the last take, releasing `message` once persisted (null: none). */
+    const emit = (message: { ack(): void } | null, timeMs: number) => {
       const block = w.take();
-      const gated = gate.item(ack);
+      const gated = gate.item(message);
       if (block.lines === 0) gated.ack();
       else subscriber.next({ kind: 'encoded', block, message: gated, timeMs });
     };
@@ -296,8 +298,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
           for (let i = 0; i < results.length; i++) storeResult(results[i]);
           storeRaw(input.frame);
           lastTimeMs = input.frame.timeMs;
-          const message = input.message;
-          emit(() => message.ack(), lastTimeMs);
+          emit(input.message, lastTimeMs);
         }
         gate.poke();
         syncCounts();

@@ -10,6 +10,8 @@ import { RESULT_QUANTITIES, type GroupResult, type ResultQuantity } from '../mod
 import { RESULT_FIELD_ORDER } from '../results/group-result.js';
 
 const Q = RESULT_QUANTITIES.length;
+/** Quantity name -> its place in a slot (RESULT_FIELD_ORDER). */
+const SLOT_INDEX = new Map<string, number>(RESULT_FIELD_ORDER.map((name, i) => [name, i]));
 /** Slot layout: time, seq (NaN: none), quality bits, then the values in RESULT_FIELD_ORDER, then the elements. */
 const HEAD = 3;
 
@@ -64,8 +66,11 @@ export function ringPush(ring: ResultRing, r: GroupResult): void {
   d[o++] = r.timeMs;
   d[o++] = r.seq ?? Number.NaN;
   d[o++] = qualityBits(r.flags);
-  const values = r.values as Record<string, number | undefined>;
-  for (let q = 0; q < Q; q++) d[o++] = values[RESULT_FIELD_ORDER[q]] ?? Number.NaN;
+  // Only the values the result has (for-in reads them off the object's own layout); the rest NaN.
+  d.fill(Number.NaN, o, o + Q);
+  const values = r.values as Record<string, number>;
+  for (const name in values) d[o + SLOT_INDEX.get(name)!] = values[name];
+  o += Q;
   const gauges = ring.elementGauges;
   for (let e = 0; e < gauges.length; e++) d[o++] = r.elementStrainMicro[gauges[e]] ?? Number.NaN;
 }

@@ -102,6 +102,10 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
   const counts = deps.counts ?? newStorageCounts();
   return (source) => new Observable<StoredBlock>((subscriber) => {
     const w = frameLineWriter(deps.lines);
+    // Summary lines of closed intervals go apart (below): their own blocks, kept in the state until durable.
+    const sw = frameLineWriter(deps.lines);
+    const unwritten = new Map<number, string>();
+    let nextUnwritten = 0;
     const groups = new Map<string, GroupStore>();
     const loggers = new Map<string, LoggerStore>();
     for (const g of cfg.groups.values()) {
@@ -134,11 +138,12 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
     const silent = (loggerId: string): boolean => (pending.get(loggerId) ?? 0) === 0 && clockMs - (lastArrivalMs.get(loggerId) ?? startClockMs) >= cfg.closeAfterMs;
 
     const snapshot = (): string => {
-      const state: StorageState = { version: STORAGE_STATE_VERSION, structure: deps.structureId, groups: {}, loggers: {} };
+      const state: StorageState = { version: STORAGE_STATE_VERSION, structure: deps.structureId, groups: {}, loggers: {}, unwritten: [] };
       for (const [id, g] of groups) {
         state.groups[id] = { series: g.series ? seriesToJson(g.series) : null, window: Number.isNaN(g.window.startMs) ? null : [g.window.startMs, g.window.endMs] };
       }
       for (const [id, l] of loggers) state.loggers[id] = seriesToJson(l.series);
+      state.unwritten = [...unwritten.values()];
       return JSON.stringify(state);
     };
     const gate = new StorageGate(snapshot, deps.persist ?? null, deps.onError, deps.persist === undefined ? null : deps.checkpointSpacing ?? null);
@@ -149,8 +154,21 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       for (const g of groups.values()) over += g.ring?.overwritten ?? 0;
       counts.ringOverwritten = over;
     };
+    /**
+     * Summary lines of intervals closed since the last take, as a block of their own: not in the
+     * gate's epoch (a message waits for no database answer to an interval it was folded into
+     * earlier), but in every state taken until it is durable, so a restart writes it again.
+     */
+    const emitSummaries = (text: string | null, timeMs: number) => {
+      const block = text === null ? sw.take() : { text, lines: text.split('\n').length };
+      if (block.lines === 0) return;
+      const id = nextUnwritten++;
+      unwritten.set(id, block.text);
+      subscriber.next({ kind: 'encoded', block, message: { ack: () => { unwritten.delete(id); }, nack: () => {} }, timeMs });
+    };
     /** Emits what was written since the last take, releasing `message` once persisted (null: none). */
     const emit = (message: { ack(): void } | null, timeMs: number) => {
+      emitSummaries(null, timeMs);
       const block = w.take();
       const gated = gate.item(message);
       if (block.lines === 0) gated.ack();
@@ -191,7 +209,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       if (place === 'late') { counts.lateResults++; w.result(r); return; }
       const s = series.stats;
       if (place === 'close') {
-        writeResultSummary(w, g.key!, s);
+        writeResultSummary(sw, g.key!, s);
         counts.summaryLines++;
         closeInterval(series, r.timeMs);
       }
@@ -220,7 +238,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       if (place === 'late') { counts.lateResults++; w.raw(f); return; }
       const s = l.series.stats;
       if (place === 'close') {
-        writeRawSummary(w, l.key, l.keys, s);
+        writeRawSummary(sw, l.key, l.keys, s);
         counts.rawSummaryLines++;
         closeInterval(l.series, f.timeMs);
       }
@@ -237,13 +255,13 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
     const closeSilent = (all: boolean) => {
       for (const g of groups.values()) {
         if (g.series === null || !isOpen(g.series) || !(all || silent(g.loggerId))) continue;
-        writeResultSummary(w, g.key!, g.series.stats);
+        writeResultSummary(sw, g.key!, g.series.stats);
         counts.summaryLines++;
         closeInterval(g.series, Number.NaN);
       }
       for (const [loggerId, l] of loggers) {
         if (!isOpen(l.series) || !(all || silent(loggerId))) continue;
-        writeRawSummary(w, l.key, l.keys, l.series.stats);
+        writeRawSummary(sw, l.key, l.keys, l.series.stats);
         counts.rawSummaryLines++;
         closeInterval(l.series, Number.NaN);
       }
@@ -256,13 +274,15 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       }
     };
 
+    // Lines a previous run closed and had not seen durable: written again (the same bytes, the same points).
+    for (const text of deps.restored?.unwritten ?? []) emitSummaries(text, lastTimeMs);
     // A series whose interval was changed since the state was saved: written as it stood, then restarted.
     for (const { series, intervalMs } of restore(deps.restored, groups, loggers)) {
       if (!Number.isNaN(series.stats.startMs)) {
         const g = [...groups.values()].find((x) => x.series === series);
         const l = [...loggers.values()].find((x) => x.series === series);
-        if (g !== undefined) { writeResultSummary(w, g.key!, series.stats); counts.summaryLines++; }
-        if (l !== undefined) { writeRawSummary(w, l.key, l.keys, series.stats); counts.rawSummaryLines++; }
+        if (g !== undefined) { writeResultSummary(sw, g.key!, series.stats); counts.summaryLines++; }
+        if (l !== undefined) { writeRawSummary(sw, l.key, l.keys, series.stats); counts.rawSummaryLines++; }
       }
       closeInterval(series, Number.NaN);
       series.intervalMs = intervalMs;

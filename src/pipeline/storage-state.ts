@@ -31,6 +31,8 @@ export const StorageStateSchema = z.strictObject({
     window: z.tuple([z.number(), z.number()]).nullable(),
   })),
   loggers: z.record(z.string(), SeriesSchema),
+  /** Summary line blocks of closed intervals not yet known durable: written again at the next start. */
+  unwritten: z.array(z.string().min(1)).default([]),
 });
 
 export type StorageState = z.infer<typeof StorageStateSchema>;

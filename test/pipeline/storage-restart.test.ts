@@ -53,16 +53,25 @@ async function drive(from: number, state: StorageState | undefined, cutAt = Numb
     persist: async (json) => { await turn(); if (cut) return new Promise<void>(() => {}); run.persisted = json; },
   });
   let completed: () => void = () => {};
+  let inFlight = 0;
+  let stageDone = false;
   const done = new Promise<void>((r) => { completed = r; });
   input.pipe(stage).subscribe({
     next: (b) => {
-      setImmediate(() => {
+      // Summary blocks take longer (a slow database answer): a cut finds closed intervals not yet durable.
+      const turns = b.block.text.startsWith('sw_summary') || b.block.text.startsWith('sw_raw_summary') ? 4 : 1;
+      inFlight++;
+      const durable = (n: number): void => {
         if (cut) return;
+        if (n > 1) { setImmediate(() => durable(n - 1)); return; }
         for (const line of b.block.text.split('\n')) db.set(lineKey(line), line);
         b.message.ack();
-      });
+        if (--inFlight === 0 && stageDone) completed();
+      };
+      setImmediate(() => durable(turns));
     },
-    complete: () => completed(),
+    // Like the write stage: done once the stage is and every block it gave is durable.
+    complete: () => { stageDone = true; if (inFlight === 0) completed(); },
   });
   for (let i = from; i < outputs.length; i++) {
     if (i === cutAt) { cut = true; run.late = counts.lateResults; return run; }
@@ -111,22 +120,44 @@ describe('storage: a restart neither loses nor counts a message twice', () => {
     expect(uncut.late).toBe(0);
   });
 
-  for (const [cutFraction, lostAcks] of [[0.23, 0], [0.5, 25], [0.77, 400]] as const) {
-    it(`cut at ${Math.round(cutFraction * 100)} % of the run, ${lostAcks} acknowledgements lost: the same summaries, nothing folded twice`, async () => {
+  let unwrittenAtCut = 0;
+  /** Just after the first result past 32 s of logger time (5 s intervals: one closes there), while its summary block is on its way. */
+  const afterAClose = () => {
+    const t0 = (outputs.find((o) => o.kind === 'frame') as { frame: { timeMs: number } }).frame.timeMs;
+    const boundary = (Math.floor(t0 / 5000) + 7) * 5000;
+    return outputs.findIndex((o) => o.kind === 'frame' && o.frame.timeMs >= boundary) + 13;
+  };
+  for (const [cutFraction, lostAcks] of [[0.23, 0], [0.5, 25], [0.77, 400], [Number.NaN, 3]] as const) {
+    it(`cut ${Number.isNaN(cutFraction) ? 'just after an interval closed' : `at ${Math.round(cutFraction * 100)} % of the run`}, ${lostAcks} acknowledgements lost: the same summaries, nothing folded twice`, async () => {
       const uncut = await drive(0, undefined);
-      const cutAt = Math.floor(outputs.length * cutFraction);
+      const cutAt = Number.isNaN(cutFraction) ? afterAClose() : Math.floor(outputs.length * cutFraction);
       const first = await drive(0, undefined, cutAt);
       expect(first.persisted).toBeDefined();
       expect(first.acked.size).toBeGreaterThan(0);
       const state = parseStorageState(first.persisted!, structure.structureId);
+      unwrittenAtCut += state.unwritten.length;
       const from = redeliveryStart(first.acked, lostAcks);
       // The cut really found work in flight: messages folded but not acknowledged are delivered again.
       expect(outputs.slice(from, cutAt).filter((o) => o.kind === 'frame').length).toBeGreaterThan(lostAcks);
       const second = await drive(from, state, Number.POSITIVE_INFINITY, first.db);
       expect(summaries(second.db)).toEqual(summaries(uncut.db));
-      // Every full-rate line of the uncut run is there; the acknowledged ones delivered again are late there: written in full, not folded.
-      for (const [k, line] of uncut.db) expect(second.db.get(k)).toBe(line);
+      // Every full-rate line of the uncut run is there, but for a window opened just after the start: its part
+      // before the trigger was in the first run's ring (not in the state; the capture has it). The acknowledged
+      // messages delivered again are late: written in full, not folded.
+      const redelivered = new Map<string, number>();
+      for (const o of outputs.slice(from)) if (o.kind === 'frame' && !redelivered.has(o.frame.loggerId)) redelivered.set(o.frame.loggerId, o.frame.timeMs);
+      const ringSpanMs = (STORAGE.event_windows.before_s + 5) * 1000;
+      for (const [k, line] of uncut.db) {
+        if (second.db.get(k) === line) continue;
+        const t = Number(k.slice(k.lastIndexOf(' ') + 1));
+        const since = redelivered.get(/logger=([^,]+)/.exec(k)![1])!;
+        expect(k.startsWith('sw_result') && t < since && t >= since - ringSpanMs, `${k} missing after the restart`).toBe(true);
+      }
       expect(second.late > 0).toBe(lostAcks > 0);
     });
   }
+
+  it('some cut found summary lines closed and not yet durable, kept in the state (written again by the next start)', () => {
+    expect(unwrittenAtCut).toBeGreaterThan(0);
+  });
 });

@@ -21,7 +21,7 @@
  * SW_BENCH_DATABASE='{"gzip":"always","max_in_flight":1}'). Without them: the runtime defaults.
  */
 import { mkdtemp, rm } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { startLive } from '../src/app/live.js';
 import { parseRuntimeConfig } from '../src/config/load-runtime.js';
@@ -73,6 +73,7 @@ async function untilTrue(cond: () => boolean, what: string, detail: () => unknow
 }
 
 async function main(): Promise<Record<string, number | string>> {
+  const loadStart = loadavg()[0];
   const rss = new RssSampler(50);
   cleanups.push(async () => rss.stop());
   const rssBoot = rss.sample();
@@ -234,6 +235,8 @@ async function main(): Promise<Record<string, number | string>> {
     heap_start_mb: round(full.heapStart), heap_after_saturation_mb: round(full.heapAfterSaturation), heap_after_steady_mb: round(full.heapSteadyEnd),
     summary_heap_after_steady_mb: round(summary.heapSteadyEnd),
     frames: PIPELINE_FRAMES, channels_per_frame: CHANNELS_PER_FRAME,
+    // The machine is shared: its load says how far the figures can be compared with another run's.
+    load_avg_1m_start: round(loadStart, 2), load_avg_1m_end: round(loadavg()[0], 2),
   };
 }
 

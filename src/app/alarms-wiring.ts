@@ -97,6 +97,11 @@ export interface AlarmWiring {
   visibleAlarms(): Alarm[];
   /** What the recorders kept (MQTT without `publish`, webhooks with `record`), in order. Grows. */
   recorded(): readonly RecordedSend[];
+  /**
+   * Each batch's transitions as the engine makes them: synchronously, before the pipeline output
+   * that caused them reaches subscribers made after the wiring (the storage stage's event windows).
+   */
+  transitions$: Observable<readonly AlarmTransition[]>;
   /** Stops taking input, waits for queued batches to be handled, closes the log. Idempotent. */
   close(): Promise<void>;
 }
@@ -203,11 +208,13 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
     ...(deps.componentFaults$ === undefined ? [] : [deps.componentFaults$.pipe(map((input): Item => ({ kind: 'input', input })))]),
     ...(deps.fatigue$ === undefined ? [] : [deps.fatigue$.pipe(map((input): Item => ({ kind: 'input', input })))]),
   )).pipe(takeUntil(closing$)), { connector: () => new Subject<Item>(), resetOnDisconnect: false });
+  const transitions$ = new Subject<readonly AlarmTransition[]>();
   const batches$ = items$.pipe(
     filter((i): i is Extract<Item, { kind: 'input' }> => i.kind === 'input'),
     tap(() => { c.inputs++; }),
     map((i) => i.input),
     alarmBatches(deps.cfg, deps.lookups, { snapshotJson: deps.snapshotJson, onEngine: (e) => { engine = e; } }),
+    tap((b) => { if (b.transitions.length > 0) transitions$.next(b.transitions); }),
     map((batch): Work => ({ kind: 'batch', batch })),
   );
   const refusals$ = items$.pipe(filter((i): i is Extract<Item, { kind: 'refusal' }> => i.kind === 'refusal'));
@@ -234,6 +241,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
     },
     visibleAlarms: () => engine?.visibleAlarms() ?? [],
     recorded: () => recorded,
+    transitions$: transitions$.asObservable(),
     close: () => {
       closed ??= (async () => {
         closing$.next();

@@ -16,6 +16,9 @@ import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { RETRY_FOREVER, writeAndAck } from '../pipeline/write-and-ack.js';
+import { newStorageCounts, storageInputs, storageStage } from '../pipeline/storage-stage.js';
+import { storageKeepsState, storageOf } from '../config/compile-storage.js';
+import { openStorageState, saveStorageState, STORAGE_STATE_SPACING_MS } from './storage-state-file.js';
 import { attachAlarms, openAlarmFiles, type AckEvent, type AlarmWiring } from './alarms-wiring.js';
 import { alarmLookups } from './lookups.js';
 import { brokerAccess } from './broker-access.js';
@@ -98,6 +101,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     statePath: resolve(baseDir, rc.fatigue.state_file), sink, now: deps.now, warn: deps.warn ?? deps.log,
     onError: (event, err) => deps.log(event, { message: err instanceof Error ? err.message : String(err) }),
   });
+  // Open summary intervals and event windows of the previous run (storage-stage.ts, storage-gate.ts).
+  const storage = storageOf(structure);
+  const storageStatePath = resolve(baseDir, rc.storage_state_file);
+  const restoredStorage = storageKeepsState(storage) ? await openStorageState(storageStatePath, structure.structureId, { now: deps.now, log: deps.warn ?? deps.log }) : undefined;
+  const storageCounts = newStorageCounts();
   // Secrets of authenticated webhooks now, before connecting: a missing one stops the start.
   const webhookAuth = await loadWebhookAuth(alarmsCfg, baseDir);
   const metricsAt = rc.metrics === undefined ? null : await metricsAccess(rc.metrics, baseDir); // its token, too, before connecting
@@ -227,7 +235,11 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
   const writeFailures = failureSummary(warn, 'write_failed', 10_000, deps.scheduler ?? asyncScheduler);
   // Stopping completes the input: held frames are computed, in-flight writes finish and are acknowledged.
   const drained = new Promise<void>((resolveDrained) => {
-    processed$.pipe(writeAndAck(sink, { elementStrains: rc.results.element_strains }, 2048, (err) => {
+    storageInputs(processed$, alarmWiring?.transitions$).pipe(storageStage({
+      storage, structureId: structure.structureId, lines: { elementStrains: rc.results.element_strains }, restored: restoredStorage,
+      persist: storageKeepsState(storage) ? (json) => saveStorageState(storageStatePath, json) : undefined, flushOnComplete: false,
+      until: stopped$, counts: storageCounts, checkpointSpacing: { ms: STORAGE_STATE_SPACING_MS, scheduler: deps.scheduler ?? asyncScheduler }, onError: (err) => deps.log('storage_state_failed', { message: err instanceof Error ? err.message : String(err) }),
+    }), writeAndAck(sink, {}, 2048, (err) => {
       writeErrors++;
       writeFailures.note(err instanceof Error ? err.message : String(err));
     }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ next: (o) => written.note(o), complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
@@ -249,6 +261,7 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     syntheticLoggers: synthetic.list(),
     rezero: rezero?.counts() ?? null,
     fatigue: fatigueWiring?.status() ?? null,
+    storage: { ...storageCounts },
   });
   const presence = statusTopic === null ? null : startPresence(outbound.publish, statusTopic, who, () => {
     const db = influx?.status();

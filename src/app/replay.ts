@@ -14,6 +14,8 @@ import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { writeAndAck } from '../pipeline/write-and-ack.js';
+import { newStorageCounts, storageInputs, storageStage, type StorageCounts } from '../pipeline/storage-stage.js';
+import { storageOf } from '../config/compile-storage.js';
 import { replaySource } from './replay-source.js';
 import { applyRezeroRecord } from '../rezero/apply.js';
 import type { RezeroRecord } from '../rezero/schema.js';
@@ -68,6 +70,8 @@ export interface ReplaySummary {
   rezero: { applied: number; skipped: Array<{ id: string; reason: string }> };
   /** The fatigue figures at the end (null without a `fatigue` section, or when no result came). */
   fatigue: FatigueSnapshot | null;
+  /** What the storage stage wrote (summaries, windows, late results). */
+  storage: StorageCounts;
 }
 
 /**
@@ -122,15 +126,22 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
       startInputs: fatigue?.startInputs, fatigue$: fatigueWiring?.alarmInputs$,
     })
     : null;
-  await lastValueFrom(processed$.pipe(
+  const storage = newStorageCounts();
+  // The same storage stage as live; open intervals are written at the end (no state file: a replay starts and ends whole).
+  await lastValueFrom(storageInputs(processed$.pipe(
     tap((p) => { if (o.collectResults && p.kind === 'frame') collected.push(...p.results); }),
-    writeAndAck(o.sink, { extraTags: { run: o.runTag }, elementStrains: o.elementStrains }, 2048, () => { writeErrors++; }),
+  ), wiring?.transitions$).pipe(
+    storageStage({
+      storage: storageOf(o.structure), structureId: o.structure.structureId, lines: { extraTags: { run: o.runTag }, elementStrains: o.elementStrains },
+      flushOnComplete: true, counts: storage,
+    }),
+    writeAndAck(o.sink, {}, 2048, () => { writeErrors++; }),
   ), { defaultValue: null });
   await fatigueWiring?.close();
   await wiring?.close();
   await o.sink.close();
   return {
     messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions,
-    fatigue: fatigueWiring?.latest() ?? null, rezero,
+    fatigue: fatigueWiring?.latest() ?? null, rezero, storage,
   };
 }

@@ -20,7 +20,8 @@ export class WriteTally {
   results = 0;
 
   note(outcome: WriteOutcome<unknown>): void {
-    if (!outcome.acknowledged) return;
+    // A block of the storage stage (summaries, a window) is no frame of a logger.
+    if (!outcome.acknowledged || outcome.loggerId === null) return;
     this.frames++;
     this.results += outcome.results;
     const seen = this.byLogger.get(outcome.loggerId);

@@ -1,4 +1,5 @@
 import { compileFatigue, type CompiledFatigue } from './compile-fatigue.js';
+import { compileStorage, type CompiledStorage } from './compile-storage.js';
 import type { AlarmsConfig } from '../alarms/schema.js';
 import type { ChannelDirectory } from '../model/channel-directory.js';
 import type { GroupModel } from '../mechanics/group-model.js';
@@ -48,6 +49,8 @@ export interface CompiledStructure {
   alarmsDisabled: boolean;
   /** The compiled `fatigue` section; null or absent when the file has none. */
   fatigue?: CompiledFatigue | null;
+  /** The compiled `storage` section (all `full` when the file has none); absent in structures built by hand. */
+  storage?: CompiledStorage;
 }
 
 export type CompileResult = { ok: true; structure: CompiledStructure } | { ok: false; problems: ValidationProblem[] };
@@ -90,6 +93,8 @@ export function compileStructure(input: unknown): CompileResult {
   });
   const fatigue = c.fatigue ? compileFatigue(c, c.fatigue) : { fatigue: null, problems: [] };
   problems.push(...fatigue.problems);
+  const storage = compileStorage(c, c.storage);
+  problems.push(...storage.problems);
   if (problems.length > 0) return { ok: false, problems };
 
   // Logger id -> its channel ids: every message's channels are looked up without building a key.
@@ -120,6 +125,7 @@ export function compileStructure(input: unknown): CompileResult {
       alarms: c.alarms === undefined || c.alarms.disabled === true ? null : c.alarms,
       alarmsDisabled: c.alarms?.disabled === true,
       fatigue: fatigue.fatigue,
+      storage: storage.storage!,
     },
   };
 }

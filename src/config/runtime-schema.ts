@@ -74,6 +74,11 @@ export const RuntimeConfigSchema = z.strictObject({
     /** Each element's mechanical strain (`el_<gauge>_micro`); a replay of the raw archive gives them later too. */
     element_strains: z.boolean().default(false),
   }).default({ element_strains: false }),
+  /**
+   * The storage stage's state (open summary intervals, event windows), rewritten before messages are
+   * acknowledged so a restart continues the intervals without counting a message twice.
+   */
+  storage_state_file: z.string().min(1).default('var/storage-state.json'),
   /** Absent: results go to rotating line-protocol files (the embedded default). */
   database: z.strictObject({
     url: z.string().url(),

@@ -5,6 +5,7 @@ import { GroupSchema } from './group-schema.js';
 import { AlarmsSectionSchema } from '../alarms/schema.js';
 import { FatigueConfigSchema } from './fatigue-schema.js';
 import { RezeroConfigSchema } from '../rezero/schema.js';
+import { StorageConfigSchema } from './storage-schema.js';
 
 /**
  * One instrumented structure: materials, loggers, gauges, temperature sensors and gauge groups.
@@ -40,6 +41,8 @@ export const StructureConfigSchema = z.strictObject({
   fatigue: FatigueConfigSchema.optional(),
   /** Who may take a group's current readings as its new zero (absent: nobody; the processor does not listen). */
   rezero: RezeroConfigSchema.optional(),
+  /** What goes to the database at what rate: full or per-interval summaries per group, event windows, raw archive (absent: everything in full). */
+  storage: StorageConfigSchema.optional(),
 });
 
 export type StructureConfig = z.infer<typeof StructureConfigSchema>;

@@ -3,7 +3,7 @@ import type { LoggerFrame, RawMessage } from '../model/raw-message.js';
 import type { DeadLetter, Rejection } from '../model/rejection.js';
 import { toDeadLetter } from './dead-letter-record.js';
 import { jsonShapeProblem, keyTokensAndDepth, MAX_JSON_DEPTH, parsedKeyCount } from './json-guard.js';
-import { parseLoggerTimestamp, schemaFor } from './payload-schema.js';
+import { parseLoggerTimestamp, plainScan, schemaFor } from './payload-schema.js';
 import { parseTopic, type TopicPattern } from './topic.js';
 
 /**
@@ -50,8 +50,10 @@ export function decodeMessage(
     return { ok: false, deadLetter: toDeadLetter(raw, rejections), loggerId, timeMs: null };
   }
   const input = parsed.value;
-  const result = schemaFor(input).safeParse(input);
-  if (!result.success) rejections.push(...issuesToRejections(result.error.issues as Issue[], input));
+  // The common shape is recognised without zod; anything else goes through the schema.
+  const plain = plainScan(input);
+  const result = plain !== null ? { success: true as const, data: plain, error: undefined } : schemaFor(input).safeParse(input);
+  if (!result.success) rejections.push(...issuesToRejections(result.error!.issues as Issue[], input));
 
   // Checks below read the raw input, not the schema output, so they run even when the schema
   // failed elsewhere: the operator sees every problem of a message in one dead letter.

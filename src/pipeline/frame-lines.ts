@@ -2,6 +2,7 @@ import { LineBuffer } from '../adapters/lineproto/line-buffer.js';
 import { escapeKey, escapeMeasurement } from '../adapters/lineproto/encode.js';
 import type { LineBlock } from '../model/point.js';
 import { QUALITY_FLAGS, qualityBits } from '../model/quality.js';
+import type { LoggerFrame } from '../model/raw-message.js';
 import type { GroupResult } from '../model/result.js';
 import type { ProcessedFrame } from './frame-processor.js';
 
@@ -47,7 +48,29 @@ const COMMA = 0x2c;
 /** Bounds on the name caches: names come from the configuration, so they stay far below. */
 const CACHE_LIMIT = 100_000;
 
+/**
+ * The parts of the encoder: a result's sw_result line, a frame's sw_raw line, and the buffer they
+ * are written into (the storage stage writes its summary lines there too), taken as one block.
+ */
+export interface FrameLineWriter {
+  result(r: GroupResult): void;
+  raw(frame: LoggerFrame): void;
+  /** The escaped `measurement,tags` of a series of this encoder (its extra tags added), prepared once by the caller. */
+  seriesKey(measurement: string, tags: Array<[string, string]>): Buffer;
+  readonly out: LineBuffer;
+  take(): LineBlock;
+}
+
 export function frameLineEncoder(options: FrameLineOptions = {}): FrameLineEncoder {
+  const w = frameLineWriter(options);
+  return (p) => {
+    for (const r of p.results) w.result(r);
+    if (options.raw !== false) w.raw(p.frame);
+    return w.take();
+  };
+}
+
+export function frameLineWriter(options: FrameLineOptions = {}): FrameLineWriter {
   const extra = Object.entries(options.extraTags ?? {});
   const out = new LineBuffer();
   const resultKeys = new Map<string, { structure: string; zone: string; logger: string; key: Buffer }>();
@@ -112,8 +135,7 @@ export function frameLineEncoder(options: FrameLineOptions = {}): FrameLineEncod
     out.endLine();
   };
 
-  const writeRaw = <M>(p: ProcessedFrame<M>): void => {
-    const f = p.frame;
+  const writeRaw = (f: LoggerFrame): void => {
     out.bytes(rawKey(f.structureId, f.loggerId));
     out.byte(SPACE);
     let missing = 0;
@@ -134,11 +156,7 @@ export function frameLineEncoder(options: FrameLineOptions = {}): FrameLineEncod
     out.endLine();
   };
 
-  return (p) => {
-    for (const r of p.results) writeResult(r);
-    if (options.raw !== false) writeRaw(p);
-    return out.take();
-  };
+  return { result: writeResult, raw: writeRaw, seriesKey, out, take: () => out.take() };
 }
 
 const resultFieldText = (name: string) => `,${escapeKey(name)}=`;

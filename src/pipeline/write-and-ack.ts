@@ -6,7 +6,8 @@ import type { FrameOutput } from './process-frames.js';
 /** A frame being written: what is kept of it once encoded. */
 interface Written<M> {
   message: M;
-  loggerId: string;
+  /** Null for a block of the storage stage (summaries, a window): no one frame's. */
+  loggerId: string | null;
   timeMs: number;
   results: number;
 }
@@ -19,7 +20,8 @@ interface Queued<M> {
 /** What the write stage emits for each frame once its write is over. */
 export interface WriteOutcome<M> {
   message: M;
-  loggerId: string;
+  /** The frame's logger; null for a block of the storage stage (summaries, a window). */
+  loggerId: string | null;
   /** The logger's timestamp of the frame, epoch ms. */
   timeMs: number;
   /** Group results the frame carried (written with it). */
@@ -31,6 +33,16 @@ export interface WriteOutcome<M> {
 /** Anything that can be acknowledged once its results are safe. */
 export interface Acknowledgeable {
   ack(): void;
+  /** Called instead of `ack` when the write is given up (after the last attempt, or at `until`). */
+  nack?(): void;
+}
+
+/** Lines already encoded (by the storage stage), written and acknowledged like a frame's. */
+export interface EncodedBlock<M> {
+  kind: 'encoded';
+  block: LineBlock;
+  message: M;
+  timeMs: number;
 }
 
 export interface WriteRetry {
@@ -67,7 +79,7 @@ export const NO_RETRY: WriteRetry = { maxAttempts: 1, initialDelayMs: 0, maxDela
 export function writeAndAck<M extends Acknowledgeable>(
   sink: LineWriter, options: FrameLineOptions = {}, concurrency = 2048,
   onWriteError: (err: unknown, message: M) => void = () => {}, retryPolicy: WriteRetry = NO_RETRY,
-): OperatorFunction<FrameOutput<M>, WriteOutcome<M>> {
+): OperatorFunction<FrameOutput<M> | EncodedBlock<M>, WriteOutcome<M>> {
   const scheduler = retryPolicy.scheduler ?? asyncScheduler;
   return (source) => new Observable<WriteOutcome<M>>((subscriber) => {
     // One encoder per subscription: it keeps the prepared names of the series it has seen.
@@ -75,7 +87,7 @@ export function writeAndAck<M extends Acknowledgeable>(
     // Frames beyond `concurrency`, encoded, oldest first; `head` walks it, so taking one is O(1) however long it grows (replay).
     let waiting: Array<Queued<M> | undefined> = [];
     let head = 0;
-    const retries = new Set<Subscription>();
+    const retries = new Map<Subscription, Written<M>>();
     let inFlight = 0;
     let sourceDone = false;
     let givenUp = false;
@@ -103,12 +115,13 @@ export function writeAndAck<M extends Acknowledgeable>(
           retries.delete(retry);
           attempt(w, block, n + 1);
         }, delay);
-        retries.add(retry); // it keeps its place among the `concurrency` until it is over
+        retries.set(retry, w); // it keeps its place among the `concurrency` until it is over
       }).catch((err: unknown) => subscriber.error(err)); // a throwing ack() or error callback ends the stream, as in any operator
     };
     /** A frame's write is over; a frame given up at `until` emits nothing. */
     const settle = (w: Written<M>, acknowledged: boolean, dropped = false) => {
       inFlight--;
+      if (!acknowledged) w.message.nack?.();
       if (!dropped) subscriber.next({ message: w.message, loggerId: w.loggerId, timeMs: w.timeMs, results: w.results, acknowledged });
       startWaiting();
       finishIfDone();
@@ -131,7 +144,7 @@ export function writeAndAck<M extends Acknowledgeable>(
 
     const stopRetries = retryPolicy.until?.subscribe(() => {
       givenUp = true;
-      for (const r of retries) r.unsubscribe();
+      for (const [r, w] of retries) { r.unsubscribe(); w.message.nack?.(); }
       const dropped = retries.size;
       retries.clear();
       inFlight -= dropped;
@@ -140,9 +153,10 @@ export function writeAndAck<M extends Acknowledgeable>(
     });
     const upstream = source.subscribe({
       next: (p) => {
-        if (p.kind !== 'frame') return;
+        if (p.kind !== 'frame' && p.kind !== 'encoded') return;
         // Encoded at once, and only the message kept: the results are let go here.
-        const q: Queued<M> = { written: { message: p.message, loggerId: p.frame.loggerId, timeMs: p.frame.timeMs, results: p.results.length }, block: encode(p) };
+        const q: Queued<M> = p.kind === 'encoded' ? { written: { message: p.message, loggerId: null, timeMs: p.timeMs, results: 0 }, block: p.block }
+          : { written: { message: p.message, loggerId: p.frame.loggerId, timeMs: p.frame.timeMs, results: p.results.length }, block: encode(p) };
         if (inFlight < concurrency && head === waiting.length) start(q);
         else waiting.push(q);
       },
@@ -155,7 +169,7 @@ export function writeAndAck<M extends Acknowledgeable>(
     return () => {
       upstream.unsubscribe();
       stopRetries?.unsubscribe();
-      for (const r of retries) r.unsubscribe();
+      for (const r of retries.keys()) r.unsubscribe();
     };
   });
 }

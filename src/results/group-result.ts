@@ -8,6 +8,19 @@ import { VOIGT_ORDER } from '../mechanics/voigt.js';
 const STRAIN_NAMES = VOIGT_ORDER.map((c) => `strain_${c}_micro` as ResultQuantity);
 const STRESS_NAMES = VOIGT_ORDER.map((c) => `stress_${c}_MPa` as ResultQuantity);
 
+/**
+ * The order toGroupResult puts values in (strain and stress interleaved per component, then the
+ * rest): a result rebuilt in this order (the storage ring, pipeline/event-windows.ts) iterates its
+ * fields exactly as the original, so its line is the same bytes.
+ */
+export const RESULT_FIELD_ORDER: readonly ResultQuantity[] = [
+  ...VOIGT_ORDER.flatMap((_, i) => [STRAIN_NAMES[i], STRESS_NAMES[i]]),
+  'strain_axial_micro', 'stress_axial_MPa', 'principal_1_MPa', 'principal_2_MPa', 'principal_3_MPa', 'principal_angle_deg',
+  'principal_1_dir_x', 'principal_1_dir_y', 'principal_1_dir_z', 'max_shear_in_plane_MPa', 'max_shear_abs_MPa', 'von_mises_MPa', 'tresca_MPa',
+  'ratio_von_mises_to_yield', 'ratio_tension_to_tensile_strength', 'ratio_compression_to_compressive_strength',
+  'residual_rms_micro', 'fit_std_error_micro', 'temperature_degC', 'temperature_age_s',
+];
+
 function put(values: Partial<Record<ResultQuantity, number>>, k: ResultQuantity, v: number): void {
   if (Number.isFinite(v)) values[k] = v;
 }

@@ -11,7 +11,7 @@ import { FrameProcessor } from '../../src/pipeline/frame-processor.js';
  * document below that either changes an output (the results of a scripted run through the frame
  * processor, and what the alarm engine is told about channels and loggers) or is refused at
  * compilation with a problem naming the key. Free-text annotations are listed as such, with where
- * they are shown. The `alarms`, `fatigue` and `rezero` sections are their modules' schemas, tested by their own tests.
+ * they are shown. The `alarms`, `fatigue`, `rezero` and `storage` sections are their modules' schemas, tested by their own tests.
  */
 
 type Doc = any;
@@ -242,6 +242,7 @@ const TABLE: Record<string, Entry> = {
   alarms: { change: () => {}, expect: { elsewhere: 'the alarm module\'s schema, with its own tests in test/alarms' } },
   fatigue: { change: () => {}, expect: { elsewhere: 'the fatigue section, compiled and tested in test/fatigue (it changes damage, not the results)' } },
   rezero: { change: () => {}, expect: { elsewhere: 'who may rezero which groups: the rezero module\'s schema, tested in test/rezero (it changes results only through a request)' } },
+  storage: { change: () => {}, expect: { elsewhere: 'the storage section, compiled and tested in test/pipeline/storage-*.test.ts (it changes what is written, not the results)' } },
 };
 
 /** Material keys for material `id` of `kind`: the capacities and the shared keys, plus its constants. */
@@ -297,7 +298,7 @@ function schemaKeys(schema: any, path = '', out: string[] = []): string[] {
 
 describe('every key of the structure schema changes an output or is refused', () => {
   // `alarms{true}.disabled` (alarms off on purpose) is tested where it acts: test/integration/run-alarms-decision.test.ts.
-  const keys = schemaKeys(StructureConfigSchema).filter((k) => !/^alarms[.{]/.test(k) && !k.startsWith('fatigue.') && !k.startsWith('rezero.'));
+  const keys = schemaKeys(StructureConfigSchema).filter((k) => !/^alarms[.{]/.test(k) && !k.startsWith('fatigue.') && !k.startsWith('rezero.') && !k.startsWith('storage.'));
   const base = outputsOf(baseDocument());
 
   it('the base document compiles and runs', () => {

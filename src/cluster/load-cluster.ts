@@ -36,6 +36,7 @@ function unitRuntime(rc: RuntimeConfig, dir: string, clientId: string, unitId: s
     ...(rc.capture ? { capture: { ...rc.capture, dir: inUnit(rc.capture.dir) } } : {}),
     ...(rc.database ? { database: { ...rc.database, spool: { ...rc.database.spool, dir: inUnit(rc.database.spool.dir) } } } : {}),
     fatigue: { ...rc.fatigue, state_file: inUnit(rc.fatigue.state_file) },
+    storage_state_file: inUnit(rc.storage_state_file),
     rezero: { overrides_file: inUnit(rc.rezero.overrides_file), audit_file: inUnit(rc.rezero.audit_file) },
     // A split structure's units each keep their own open-alarm list.
     state_topics: split && rc.state_topics.alarms_topic !== '' ? { ...rc.state_topics, alarms_topic: `${rc.state_topics.alarms_topic}/${unitId}` } : rc.state_topics,

@@ -37,6 +37,10 @@ export interface ReplayOptions {
   maxFutureMs?: number;
   /** Run the structure's alarms too (its `alarms` section): transitions to the sink and the summary; deliveries recorded, not sent. */
   alarms?: boolean;
+  /** Each alarm batch's transitions as they happen (when alarms run). */
+  onTransitions?: (transitions: readonly AlarmTransition[]) => void;
+  /** Keep every transition in the summary (default true; a long replay with a report passes false and takes them in onTransitions). */
+  keepTransitions?: boolean;
   /** Further consumers of the processed stream, subscribed before it starts. */
   attach?: (processed$: Observable<FrameOutput<PipelineMessage>>) => void;
 }
@@ -48,8 +52,10 @@ export interface ReplaySummary {
   rejected: number;
   writeErrors: number;
   collected: GroupResult[];
-  /** Alarm transitions, in order (when alarms ran). */
+  /** Alarm transitions, in order (when alarms ran and keepTransitions is not false). */
   transitions: AlarmTransition[];
+  /** How many transitions there were (kept or not). */
+  transitionCount: number;
 }
 
 /**
@@ -81,11 +87,17 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   }));
   o.attach?.(processed$);
   const transitions: AlarmTransition[] = [];
+  let transitionCount = 0;
+  const keep = o.keepTransitions ?? true;
   let clockMs = 0;
   const wiring = o.alarms && o.structure.alarms
     ? attachAlarms(processed$, acks$, {
       cfg: o.structure.alarms, lookups: alarmLookups(o.structure), now: () => clockMs, sink: o.sink,
-      pointTags: { run: o.runTag }, webhook: 'record', onBatch: (b) => { transitions.push(...b.transitions); },
+      pointTags: { run: o.runTag }, webhook: 'record', onBatch: (b) => {
+        transitionCount += b.transitions.length;
+        if (keep) transitions.push(...b.transitions);
+        if (b.transitions.length > 0) o.onTransitions?.(b.transitions);
+      },
     })
     : null;
   await lastValueFrom(processed$.pipe(
@@ -94,5 +106,5 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   ), { defaultValue: null });
   await wiring?.close();
   await o.sink.close();
-  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions };
+  return { messages, frames: processor.counts.frames, results: processor.counts.results, rejected: decodeCounts.rejected, writeErrors, collected, transitions, transitionCount };
 }

@@ -102,18 +102,19 @@ export class SeriesAccumulator {
   }
 
   /**
-   * Doubles the bucket width until at most half the chunks are left; if breaks alone fill more
-   * than that (a run broken thousands of times), neighbouring chunks merge across them: the lines
-   * then run through those short breaks (gaps stay shaded, from the group's own list).
+   * Doubles the bucket width until at most three quarters of the chunks are left (one doubling
+   * about halves them; the last width is then at most the run's span / (maxChunks / 2)). If breaks
+   * alone fill more than that (a run broken thousands of times), neighbouring chunks merge across
+   * them once a bucket spans the whole run: the lines then run through those short breaks (gaps stay
+   * shaded, from the group's own list).
    */
   private compact(noGapBelowMs: number): void {
-    const target = this.maxChunks >> 1;
-    let force = false;
+    const target = (this.maxChunks * 3) >> 2;
+    const d = this.data;
+    const span = this.lastTime - d[FIRST];
     while (this.count > target) {
-      const before = this.count;
       this.widthMs *= 2;
-      this.mergeNeighbours(noGapBelowMs, force);
-      if (this.count === before) force = true;
+      this.mergeNeighbours(noGapBelowMs, this.widthMs > 2 * span);
     }
   }
 
@@ -163,6 +164,9 @@ export class SeriesAccumulator {
     }
     return out;
   }
+
+  /** Width of a bucket now, ms (1 until the first reduction). */
+  get bucketMs(): number { return this.widthMs; }
 
   /** Chunks held now (at most maxChunks). */
   get chunks(): number { return this.count; }

@@ -16,6 +16,9 @@ import type { FrameOutput } from '../pipeline/process-frames.js';
 import { writeAndAck } from '../pipeline/write-and-ack.js';
 import { replaySource } from './replay-source.js';
 
+/** Frames written behind the reading of the capture at most (each holds its encoded lines until written). */
+const MAX_WRITES_BEHIND = 512;
+
 export interface ReplayOptions {
   structure: CompiledStructure;
   messages: AsyncIterable<RawMessage>;
@@ -72,9 +75,18 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const alarmsCfg = o.structure.alarms;
   const commandUser = alarmsCfg ? ackUserMatcher(alarmsCfg, o.structure.structureId) : () => null;
   const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && commandUser(i.message.raw.topic) !== null;
+  // Frames handed to the write stage and not yet written: the capture is read on only while they
+  // are fewer than MAX_WRITES_BEHIND (from half of it again), so memory does not grow with its length.
+  let writesBehind = 0;
+  let resume: (() => void) | null = null;
+  const hold = () => (writesBehind < MAX_WRITES_BEHIND ? null : new Promise<void>((r) => { resume = r; }));
+  const written = () => {
+    writesBehind--;
+    if (resume !== null && writesBehind <= MAX_WRITES_BEHIND / 2) { const r = resume; resume = null; r(); }
+  };
   // One pass over the capture, split like live: acknowledgement commands to the alarms, the rest to the pipeline.
   const source$ = replaySource(o.messages, {
-    tickMs: o.tickMs, speed: o.speed, sleep: o.sleep,
+    tickMs: o.tickMs, speed: o.speed, sleep: o.sleep, hold,
     onMessage: (n, raw) => { messages = n; clockMs = raw.arrivalMs; o.onMessage?.(n, raw); },
   }).pipe(share());
   const acks$ = source$.pipe(
@@ -101,8 +113,13 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
     })
     : null;
   await lastValueFrom(processed$.pipe(
-    tap((p) => { if (o.collectResults && p.kind === 'frame') collected.push(...p.results); }),
+    tap((p) => {
+      if (p.kind !== 'frame') return;
+      writesBehind++;
+      if (o.collectResults) collected.push(...p.results);
+    }),
     writeAndAck(o.sink, { extraTags: { run: o.runTag }, elementStrains: o.elementStrains }, 2048, () => { writeErrors++; }),
+    tap(written),
   ), { defaultValue: null });
   await wiring?.close();
   await o.sink.close();

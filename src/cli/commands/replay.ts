@@ -78,9 +78,9 @@ export function replayCommand(): Command {
       // The report is gathered as the replay streams (ReportBuilder): nothing of the run is kept whole.
       const builder = o.report ? new ReportBuilder({ comparison: o.compareStructure !== undefined }) : null;
       const run = async (s: CompiledStructure, tag: string, sink: PointSink, messages: AsyncIterable<RawMessage>, feed: ((r: GroupResult) => void) | null, bar: ProgressBar | null): Promise<ReplaySummary> => {
+        const deadLetters = new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`)));
         const summary = await replay({
-          structure: s, messages, sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
-          deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
+          structure: s, messages, sink, runTag: tag, tickMs: o.tickMs, speed: o.speed, deadLetters,
           topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains,
           maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, alarms: true, keepTransitions: false,
           onTransitions: feed === null || tag !== o.runTag ? undefined : (ts) => { for (const t of ts) builder!.addAlarm(reportAlarm(t)); },
@@ -88,6 +88,7 @@ export function replayCommand(): Command {
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
           onMessage: (n, m) => { if (tag === o.runTag) { clockMs = m.arrivalMs; bar?.update(n); } },
         });
+        await deadLetters.close();
         bar?.finish(summary.messages);
         return summary;
       };

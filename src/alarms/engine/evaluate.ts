@@ -25,6 +25,21 @@ export function keyState(ctx: EngineContext, key: string, levels: number): KeySt
   return ks;
 }
 
+/**
+ * Whether an evaluation with raw level 0 would change nothing for this key, the common case (most
+ * readings and results raise nothing): no alarm, nothing confirmed, the condition absent before and
+ * every level's absence already dated. Callers skip building the descriptor and the evaluation
+ * then; `evaluate` would return no transition and leave the state as it is.
+ */
+export function quietAtZero(ctx: EngineContext, key: string, ks?: KeyState): boolean {
+  const k = ks ?? ctx.state.keys[key];
+  if (k === undefined) return true;
+  if (k.prevRaw !== 0 || k.debounce.confirmed !== 0 || ctx.state.alarms[key] !== undefined) return false;
+  const above = k.debounce.aboveSinceMs, below = k.debounce.belowSinceMs;
+  for (let i = 1; i < above.length; i++) if (above[i] !== null || below[i] === null) return false;
+  return true;
+}
+
 /** One detector evaluation, before delays. */
 export interface RawEvaluation {
   /** Raw level: 0 = condition absent, i = the i-th (1-based) of the detector's levels. */

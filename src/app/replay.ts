@@ -76,13 +76,13 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const commandUser = alarmsCfg ? ackUserMatcher(alarmsCfg, o.structure.structureId) : () => null;
   const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && commandUser(i.message.raw.topic) !== null;
   // Frames handed to the write stage and not yet written: the capture is read on only while they
-  // are fewer than MAX_WRITES_BEHIND (from half of it again), so memory does not grow with its length.
+  // are fewer than MAX_WRITES_BEHIND (from three quarters of it again), so memory does not grow with its length.
   let writesBehind = 0;
   let resume: (() => void) | null = null;
   const hold = () => (writesBehind < MAX_WRITES_BEHIND ? null : new Promise<void>((r) => { resume = r; }));
   const written = () => {
     writesBehind--;
-    if (resume !== null && writesBehind <= MAX_WRITES_BEHIND / 2) { const r = resume; resume = null; r(); }
+    if (resume !== null && writesBehind <= (MAX_WRITES_BEHIND * 3) / 4) { const r = resume; resume = null; r(); }
   };
   // One pass over the capture, split like live: acknowledgement commands to the alarms, the rest to the pipeline.
   const source$ = replaySource(o.messages, {

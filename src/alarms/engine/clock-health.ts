@@ -1,5 +1,5 @@
 import type { AlarmTransition, LoggerInfo, RefusedMessage } from '../types.js';
-import { evaluate, quietAtZero, type EngineContext } from './evaluate.js';
+import { evaluate, settledAtZero, type EngineContext } from './evaluate.js';
 import { alarmKey, loggerSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 
@@ -15,7 +15,7 @@ export function evaluateClock(ctx: EngineContext, loggerId: string, logger: Logg
   const ahead = offsetS > clock.ahead_s;
   const present = ahead || offsetS < -clock.behind_s;
   const subjectKey = loggerSubjectKey(loggerId);
-  if (!present && quietAtZero(ctx, alarmKey('clock_offset', subjectKey))) return [];
+  if (!present && settledAtZero(ctx, alarmKey('clock_offset', subjectKey), undefined, offsetS, null)) return [];
   const d = healthDescriptor(ctx, 'clock_offset', subjectKey, { kind: 'logger', loggerId },
     logger.zone, logger.location, 'clock_offset_s', 's');
   return evaluate(ctx, d, healthEvaluation(ctx, 'clock_offset', present, arrivalMs, offsetS,

@@ -26,17 +26,24 @@ export function keyState(ctx: EngineContext, key: string, levels: number): KeySt
 }
 
 /**
- * Whether an evaluation with raw level 0 would change nothing for this key, the common case (most
- * readings and results raise nothing): no alarm, nothing confirmed, the condition absent before and
- * every level's absence already dated. Callers skip building the descriptor and the evaluation
- * then; `evaluate` would return no transition and leave the state as it is.
+ * An evaluation with raw level 0 that can change nothing but the shown value, done without its
+ * descriptor: the common case (most readings and results raise nothing), which builds nothing.
+ * It applies when the key is steady at zero (the condition absent before, nothing confirmed, every
+ * level's absence already dated) and has no alarm, or only one that is cleared, unacknowledged and
+ * not flapping, whose value and trend it updates as `evaluate` would. Returns false (nothing done)
+ * otherwise: the caller then calls `evaluate`. Mutates `ctx.state`.
  */
-export function quietAtZero(ctx: EngineContext, key: string, ks?: KeyState): boolean {
+export function settledAtZero(ctx: EngineContext, key: string, ks: KeyState | undefined, value: number | null, trendPerS: number | null): boolean {
   const k = ks ?? ctx.state.keys[key];
   if (k === undefined) return true;
-  if (k.prevRaw !== 0 || k.debounce.confirmed !== 0 || ctx.state.alarms[key] !== undefined) return false;
+  if (k.prevRaw !== 0 || k.debounce.confirmed !== 0) return false;
   const above = k.debounce.aboveSinceMs, below = k.debounce.belowSinceMs;
   for (let i = 1; i < above.length; i++) if (above[i] !== null || below[i] === null) return false;
+  const alarm = ctx.state.alarms[key];
+  if (alarm === undefined) return true;
+  if (alarm.state !== 'cleared_unacknowledged' || alarm.flapping) return false;
+  alarm.value = value;
+  alarm.trendPerS = trendPerS;
   return true;
 }
 

@@ -1,6 +1,6 @@
 import type { LoggerFrame } from '../../model/raw-message.js';
 import type { AlarmTransition, ChannelInfo, LoggerInfo } from '../types.js';
-import { evaluate, keyState, quietAtZero, type EngineContext } from './evaluate.js';
+import { evaluate, keyState, settledAtZero, type EngineContext } from './evaluate.js';
 import { alarmKey, channelPath, channelSubjectKey, loggerSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 import { hampelStep } from './hampel.js';
@@ -18,7 +18,7 @@ export function evaluateFrame(ctx: EngineContext, f: LoggerFrame): AlarmTransiti
   const out: AlarmTransition[] = [];
   ctx.state.loggerLastMs[f.loggerId] = Math.max(ctx.state.loggerLastMs[f.loggerId] ?? f.arrivalMs, f.arrivalMs);
   const loggerKey = loggerSubjectKey(f.loggerId);
-  if (ctx.cfg.health.no_data.enabled && !quietAtZero(ctx, alarmKey('no_data', loggerKey))) {
+  if (ctx.cfg.health.no_data.enabled && !settledAtZero(ctx, alarmKey('no_data', loggerKey), undefined, 0, null)) {
     const d = healthDescriptor(ctx, 'no_data', loggerKey, { kind: 'logger', loggerId: f.loggerId },
       logger.zone, logger.location, 'silence_s', 's');
     out.push(...evaluate(ctx, d, healthEvaluation(ctx, 'no_data', false, f.arrivalMs, 0, null)));
@@ -48,7 +48,7 @@ function evaluateChannel(
   const h = ctx.cfg.health;
   const out: AlarmTransition[] = [];
   const subjectKey = channelSubjectKey(f.loggerId, channelId);
-  // Descriptors are built only for an evaluation that can change something (quietAtZero).
+  // Descriptors are built only for an evaluation that can change something (settledAtZero).
   const lastKey = channelPath(f.loggerId, channelId);
   const t = f.timeMs;
   const usable = typeof reading === 'number';
@@ -58,7 +58,7 @@ function evaluateChannel(
     const limitMs = silenceLimitMs(logger.expectedIntervalS, h.channel_missing.missing_after_intervals);
     const s = silence(t, last, limitMs);
     const present = !usable && s.silent;
-    if (present || !quietAtZero(ctx, alarmKey('channel_missing', subjectKey))) {
+    if (present || !settledAtZero(ctx, alarmKey('channel_missing', subjectKey), undefined, s.silentS, null)) {
       out.push(...evaluate(ctx, channelDescriptor(ctx, 'channel_missing', subjectKey, f, logger, channelId, ch, 'missing_s', 's'),
         healthEvaluation(ctx, 'channel_missing', present, t, s.silentS, limitMs / 1000)));
     }
@@ -69,7 +69,7 @@ function evaluateChannel(
     return out;
   }
   const inRange = reading >= ch.validMin && reading <= ch.validMax;
-  if (h.out_of_range.enabled && (!inRange || !quietAtZero(ctx, alarmKey('out_of_range', subjectKey)))) {
+  if (h.out_of_range.enabled && (!inRange || !settledAtZero(ctx, alarmKey('out_of_range', subjectKey), undefined, reading, null))) {
     const limit = reading < ch.validMin ? ch.validMin : ch.validMax;
     out.push(...evaluate(ctx, channelDescriptor(ctx, 'out_of_range', subjectKey, f, logger, channelId, ch, 'reading', ch.unit),
       healthEvaluation(ctx, 'out_of_range', !inRange, t, reading, limit)));
@@ -80,7 +80,7 @@ function evaluateChannel(
     ks.hampel ??= { window: [] };
     const minDeviation = h.spike.min_deviation_by_unit[ch.unit] ?? h.spike.min_deviation;
     const v = hampelStep(ks.hampel, reading, h.spike.window_samples, h.spike.k_mads, minDeviation);
-    if (v.spike || !quietAtZero(ctx, alarmKey('spike', subjectKey), ks)) {
+    if (v.spike || !settledAtZero(ctx, alarmKey('spike', subjectKey), ks, v.deviation, null)) {
       out.push(...evaluate(ctx, channelDescriptor(ctx, 'spike', subjectKey, f, logger, channelId, ch, 'deviation_from_median', ch.unit),
         healthEvaluation(ctx, 'spike', v.spike, t, v.deviation, v.limit), ks));
     }
@@ -91,7 +91,7 @@ function evaluateChannel(
     const spread = flatlineStep(ks.flatline, t, reading, h.flatline.window_s * 1000);
     if (spread !== null) {
       const flat = spread <= h.flatline.tolerance;
-      if (flat || !quietAtZero(ctx, alarmKey('flatline', subjectKey), ks)) {
+      if (flat || !settledAtZero(ctx, alarmKey('flatline', subjectKey), ks, spread, null)) {
         out.push(...evaluate(ctx, channelDescriptor(ctx, 'flatline', subjectKey, f, logger, channelId, ch, 'spread', ch.unit),
           healthEvaluation(ctx, 'flatline', flat, t, spread, h.flatline.tolerance), ks));
       }

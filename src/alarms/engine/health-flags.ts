@@ -2,7 +2,7 @@ import type { GroupResult } from '../../model/result.js';
 import type { QualityFlag } from '../../model/quality.js';
 import type { HealthCheck } from '../schema.js';
 import type { AlarmTransition } from '../types.js';
-import { evaluate, quietAtZero, type EngineContext } from './evaluate.js';
+import { evaluate, settledAtZero, type EngineContext } from './evaluate.js';
 import { alarmKey, groupSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 
@@ -44,16 +44,16 @@ export function evaluateFlags(ctx: EngineContext, r: GroupResult): AlarmTransiti
   for (const check of FLAG_CHECKS) {
     if (!ctx.cfg.health[check].enabled) continue;
     const present = flagged && r.flags.some((f) => FLAG_HEALTH_CHECK[f] === check);
-    // An unflagged result where nothing was raised before changes nothing: no descriptor built.
-    if (!present && quietAtZero(ctx, alarmKey(check, subjectKey))) continue;
     const q = FLAG_QUANTITY[check];
+    const value = q.quantity === null ? null : (r.values[q.quantity] ?? null);
+    // An unflagged result of a group with nothing raised (or only a cleared alarm): no descriptor built.
+    if (!present && settledAtZero(ctx, alarmKey(check, subjectKey), undefined, value, null)) continue;
     const flags = r.flags.filter((f) => FLAG_HEALTH_CHECK[f] === check);
     const group = ctx.lookups.groups.get(r.groupId);
     const d = healthDescriptor(
       ctx, check, subjectKey, { kind: 'group', groupId: r.groupId }, r.zone,
       group?.location ?? r.groupId, q.quantity ?? (flags.join('+') || check), q.units,
     );
-    const value = q.quantity === null ? null : (r.values[q.quantity] ?? null);
     out.push(...evaluate(ctx, d, healthEvaluation(ctx, check, present, r.timeMs, value, null)));
   }
   return out;

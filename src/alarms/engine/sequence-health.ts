@@ -1,6 +1,6 @@
 import type { LoggerFrame } from '../../model/raw-message.js';
 import type { AlarmTransition, LoggerInfo } from '../types.js';
-import { evaluate, quietAtZero, type EngineContext } from './evaluate.js';
+import { evaluate, settledAtZero, type EngineContext } from './evaluate.js';
 import { alarmKey, loggerSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 import { newSequenceState, sequenceStep } from './sequence.js';
@@ -26,7 +26,7 @@ export function evaluateSequence(ctx: EngineContext, f: LoggerFrame, logger: Log
   const inLastHour = s.restartsMs.length;
   const present = inLastHour > check.max_per_hour;
   const subjectKey = loggerSubjectKey(f.loggerId);
-  if (!present && quietAtZero(ctx, alarmKey('sequence_restart', subjectKey))) return [];
+  if (!present && settledAtZero(ctx, alarmKey('sequence_restart', subjectKey), undefined, inLastHour, null)) return [];
   const d = healthDescriptor(ctx, 'sequence_restart', subjectKey, { kind: 'logger', loggerId: f.loggerId },
     logger.zone, logger.location, 'seq_restarts_per_hour', '1/h');
   return evaluate(ctx, d, healthEvaluation(ctx, 'sequence_restart', present, f.arrivalMs, inLastHour,

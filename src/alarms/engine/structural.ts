@@ -5,7 +5,7 @@ import { unitOfQuantity } from '../units.js';
 import { compileLimit, limitLevel, limitValue, type CompiledLimit } from './limit-rule.js';
 import { rateLevel, rateLimit, rateStep } from './rate-rule.js';
 import { newSampleWindow, pushSample, slopePerS } from './sample-window.js';
-import { evaluate, keyState, quietAtZero, type EngineContext, type RawEvaluation } from './evaluate.js';
+import { evaluate, keyState, settledAtZero, type EngineContext, type RawEvaluation } from './evaluate.js';
 import type { KeyState } from './state.js';
 import { alarmKey, groupSubjectKey } from './key-cache.js';
 import type { AlarmDescriptor } from './lifecycle.js';
@@ -55,8 +55,8 @@ export function evaluateStructural(ctx: EngineContext, compiled: CompiledRules, 
       raw = rateLevel(rule, slope, ks.debounce.confirmed);
       measured = slope;
     }
-    // Below every limit with nothing raised before: nothing to change, nothing built.
-    if (raw === 0 && quietAtZero(ctx, key, ks)) continue;
+    // Below every limit with nothing raised (or only a cleared alarm): nothing built.
+    if (raw === 0 && settledAtZero(ctx, key, ks, measured, ctx.state.alarms[key] === undefined ? null : slopePerS(ks.trend, trendMs / 10))) continue;
     out.push(...evaluate(ctx, structuralDescriptor(rule, r, subjectKey, key, group?.location), structuralEvaluation(compiled, rule, ks, r.timeMs, raw, measured, trendMs), ks));
   }
   return out;

@@ -17,7 +17,7 @@ import { writeAndAck } from '../pipeline/write-and-ack.js';
 import { replaySource } from './replay-source.js';
 
 /** Frames written behind the reading of the capture at most (each holds its encoded lines until written). */
-const MAX_WRITES_BEHIND = 512;
+const MAX_WRITES_BEHIND = 256;
 
 export interface ReplayOptions {
   structure: CompiledStructure;

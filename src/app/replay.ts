@@ -75,8 +75,9 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
   const alarmsCfg = o.structure.alarms;
   const commandUser = alarmsCfg ? ackUserMatcher(alarmsCfg, o.structure.structureId) : () => null;
   const isCommand = (i: PipelineInput<PipelineMessage>) => i.kind === 'message' && commandUser(i.message.raw.topic) !== null;
-  // Frames handed to the write stage and not yet written: the capture is read on only while they
-  // are fewer than MAX_WRITES_BEHIND (from three quarters of it again), so memory does not grow with its length.
+  // Frames handed to the write stage and dead letters not yet written: the capture is read on only
+  // while they are fewer than MAX_WRITES_BEHIND (from three quarters of it again), so memory does not
+  // grow with its length. (Frames a wait holds are not counted: their release needs the capture read on.)
   let writesBehind = 0;
   let resume: (() => void) | null = null;
   const hold = () => (writesBehind < MAX_WRITES_BEHIND ? null : new Promise<void>((r) => { resume = r; }));
@@ -93,8 +94,16 @@ export async function replay(o: ReplayOptions): Promise<ReplaySummary> {
     filter(isCommand),
     map((i): AckEvent => { const raw = (i as { message: PipelineMessage }).message.raw; return parseAckPayload(raw.payload, raw.arrivalMs, commandUser(raw.topic) ?? ''); }),
   );
+  const deadLetters: DeadLetterSink = {
+    write: (d) => {
+      writesBehind++;
+      const w = o.deadLetters.write(d);
+      w.then(written, written);
+      return w;
+    },
+  };
   const processed$ = source$.pipe(filter((i) => !isCommand(i)), pipeline<PipelineMessage>({
-    structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters: o.deadLetters,
+    structure: o.structure, topicPattern: compileTopicPattern(o.topicPattern), deadLetters,
     decodeCounts, processor: processor as FrameProcessor<unknown>, maxFutureMs: o.maxFutureMs,
   }));
   o.attach?.(processed$);

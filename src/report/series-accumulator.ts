@@ -14,7 +14,8 @@ import type { Segment } from './series.js';
  * A chunk remembers why it may start a new line: always (the result before lacked the quantity, or
  * a periodic quantity wrapped), or a pause of so many ms, which breaks the line if the whole run's
  * median interval makes it a gap (known only at the end). Chunks that may start a line are merged
- * only when the median known then says the pause is no gap.
+ * only when the median known then says the pause is no gap, or when breaks alone would fill the
+ * chunks: then the merged chunk's samples are drawn as dots (see compact).
  */
 export class SeriesAccumulator {
   /** Per chunk, STRIDE numbers (fields below). Grows by doubling up to maxChunks chunks. */
@@ -96,6 +97,7 @@ export class SeriesAccumulator {
     d[o + BUCKET] = bucket;
     d[o + BREAK] = brk;
     d[o + N] = 1;
+    d[o + BROKEN] = 0;
     set(d, o + FIRST, t, v, aux); set(d, o + LOW, t, v, aux); set(d, o + HIGH, t, v, aux); set(d, o + LAST, t, v, aux);
     this.count++;
     if (t > this.lastTime) this.lastTime = t;
@@ -103,32 +105,34 @@ export class SeriesAccumulator {
 
   /**
    * Doubles the bucket width until at most three quarters of the chunks are left (one doubling
-   * about halves them; the last width is then at most the run's span / (maxChunks / 2)). If breaks
-   * alone fill more than that (a run broken thousands of times), neighbouring chunks merge across
-   * them once a bucket spans the whole run: the lines then run through those short breaks (gaps stay
-   * shaded, from the group's own list).
+   * about halves them; the last width is then at most the run's span / (maxChunks / 2)). Where
+   * breaks alone keep more than that (a principal direction masked and unmasked thousands of times
+   * a day), the chunks of one bucket merge across their breaks into a chunk drawn as separate dots:
+   * its extremes kept, no line drawn through a break.
    */
   private compact(noGapBelowMs: number): void {
     const target = (this.maxChunks * 3) >> 2;
-    const d = this.data;
-    const span = this.lastTime - d[FIRST];
     while (this.count > target) {
       this.widthMs *= 2;
-      this.mergeNeighbours(noGapBelowMs, this.widthMs > 2 * span);
+      this.mergeNeighbours(noGapBelowMs, true, false);
+      if (this.count > target) this.mergeNeighbours(noGapBelowMs, false, true);
     }
   }
 
-  private mergeNeighbours(noGapBelowMs: number, force: boolean): void {
+  /** Merges neighbouring chunks of one bucket (halving the bucket numbers first if `halve`); across breaks if `force`. */
+  private mergeNeighbours(noGapBelowMs: number, halve: boolean, force: boolean): void {
     const d = this.data;
     let w = 0;
     for (let r = 0; r < this.count; r++) {
       const o = r * STRIDE;
-      const bucket = Math.floor(d[o + BUCKET] / 2);
+      const bucket = halve ? Math.floor(d[o + BUCKET] / 2) : d[o + BUCKET];
       if (w > 0) {
         const p = (w - 1) * STRIDE;
         const brk = d[o + BREAK];
-        if (d[p + BUCKET] === bucket && (force || (brk <= noGapBelowMs && brk !== Infinity))) {
+        const joins = brk <= noGapBelowMs && brk !== Infinity;
+        if (d[p + BUCKET] === bucket && (joins || force)) {
           mergeChunk(d, p, o);
+          if (!joins) d[p + BROKEN] = 1;
           continue;
         }
       }
@@ -153,14 +157,17 @@ export class SeriesAccumulator {
     for (let c = 0; c < this.count; c++) {
       const o = c * STRIDE;
       const brk = d[o + BREAK];
-      if (brk === Infinity || brk > gapAboveMs) cur = null;
+      const broken = d[o + BROKEN] === 1;
+      if (brk === Infinity || brk > gapAboveMs || broken) cur = null;
       keptSamples(d, o, pts);
       for (let i = 0; i < pts.length; i += 3) {
         if (pts[i + 2] < auxFloor) { cur = null; continue; }
         if (cur === null) { cur = { t: [], v: [] }; out.push(cur); }
         cur.t.push(pts[i]);
         cur.v.push(pts[i + 1]);
+        if (broken) cur = null; // breaks lie between these samples: each is a dot of its own
       }
+      if (broken) cur = null;
     }
     return out;
   }
@@ -172,10 +179,10 @@ export class SeriesAccumulator {
   get chunks(): number { return this.count; }
 }
 
-// Chunk layout: bucket, break (Infinity, or the pause in ms), sample count, then four samples
-// (time, value, auxiliary): first, lowest, highest, last.
-const BUCKET = 0, BREAK = 1, N = 2, FIRST = 3, LOW = 6, HIGH = 9, LAST = 12;
-const STRIDE = 15;
+// Chunk layout: bucket, break (Infinity, or the pause in ms), sample count, four samples (time,
+// value, auxiliary): first, lowest, highest, last; and 1 when breaks lie between its samples.
+const BUCKET = 0, BREAK = 1, N = 2, FIRST = 3, LOW = 6, HIGH = 9, LAST = 12, BROKEN = 15;
+const STRIDE = 16;
 
 function addSample(d: Float64Array, o: number, t: number, v: number, aux: number): void {
   d[o + N]++;
@@ -188,6 +195,7 @@ function addSample(d: Float64Array, o: number, t: number, v: number, aux: number
 /** Chunk at `b` into the chunk at `a` (a before b in time). */
 function mergeChunk(d: Float64Array, a: number, b: number): void {
   d[a + N] += d[b + N];
+  if (d[b + BROKEN] === 1) d[a + BROKEN] = 1;
   if (d[b + FIRST] < d[a + FIRST]) set(d, a + FIRST, d[b + FIRST], d[b + FIRST + 1], d[b + FIRST + 2]);
   if (d[b + LAST] >= d[a + LAST]) set(d, a + LAST, d[b + LAST], d[b + LAST + 1], d[b + LAST + 2]);
   if (d[b + LOW + 1] < d[a + LOW + 1]) set(d, a + LOW, d[b + LOW], d[b + LOW + 1], d[b + LOW + 2]);

@@ -159,6 +159,29 @@ describe('the report built as the replay streams', () => {
     expect(segs[2].t[0]).toBe(t0 + 300_001 * 100);
   });
 
+  it('draws a series broken every few samples as dots, never as a line across the breaks, and joins its unbroken stretch', () => {
+    const s = new SeriesAccumulator(2048);
+    const t0 = Date.UTC(2026, 0, 1);
+    const n = 864_000; // a day at 10 Hz: every third result lacks the value in the first half, none in the second
+    const value = (i: number) => Math.sin(i / 3000) * 80 + (i === 100_000 ? 170 : 0);
+    let max = -Infinity;
+    for (let i = 0; i < n; i++) {
+      if (i < n / 2 && i % 3 === 2) { s.markBreak(); continue; }
+      s.push(t0 + i * 100, value(i), Number.NaN, i === 0 ? 0 : 100, 300);
+      max = Math.max(max, value(i));
+    }
+    expect(s.chunks).toBeLessThanOrEqual(2048);
+    const segs = s.segments(300);
+    const span = (g: { t: number[] }) => g.t[g.t.length - 1] - g.t[0];
+    const half = t0 + (n / 2) * 100;
+    // In the broken half no line is longer than two samples of the data (200 ms): dots and pairs only.
+    for (const g of segs) if (g.t[0] < half - 100) expect(span(g)).toBeLessThanOrEqual(100);
+    // The unbroken half is one line.
+    expect(segs.filter((g) => g.t[0] >= half - 100 && g.t.length > 1).map(span)).toEqual([expect.any(Number)]);
+    expect(span(segs.at(-1)!)).toBeGreaterThan((n / 2 - 10) * 100);
+    expect(Math.max(...segs.flatMap((g) => g.v))).toBe(max); // the extreme in the broken half survives
+  });
+
   it('lists at most maxAlarmRows transitions and says how many more there were; the timelines take them all', () => {
     const b = new ReportBuilder({ maxAlarmRows: 10 });
     for (let k = 0; k < 40; k++) {

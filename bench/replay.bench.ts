@@ -30,7 +30,7 @@ const out = await mkdtemp(join(tmpdir(), 'sw-bench-replay-'));
 const run = async (dir: string, name: string, flags: string[] = []) => {
   const r = await replayInChild(['--capture', dir, '-s', STRUCTURE_FILE, '--out', join(out, name), '--run-tag', name], flags);
   if (r.exit_code !== 0) throw new Error(`replay of ${dir} exited ${r.exit_code}: ${JSON.stringify(r)}`);
-  log(`${name}: ${r.messages} scans in ${r.wall_s} s (${r.cpu_s} s CPU): ${Math.round(r.messages / r.wall_s)} scans/s, ${Math.round(r.messages / r.cpu_s)} per CPU second; peak RSS ${r.peak_rss_mb} MB, live heap at the end ${r.live_heap_mb} MB`);
+  log(`${name}: ${r.messages} scans in ${r.wall_s} s (${r.cpu_s} s CPU): ${Math.round(r.messages / r.wall_s)} scans/s, ${Math.round(r.messages / r.cpu_s)} per CPU second; peak RSS ${r.peak_rss_mb} MB (median ${r.median_rss_mb} MB), live heap at the end ${r.live_heap_mb} MB`);
   return r;
 };
 try {
@@ -41,6 +41,7 @@ try {
   console.log(JSON.stringify({
     bench: 'replay', scans_per_s: Math.round(scansPerS), scans_per_cpu_s: Math.round(l.messages / l.cpu_s), bar_scans_per_s: BAR,
     ratio_to_bar: round(scansPerS / BAR, 2), rss_short_mb: s.peak_rss_mb, rss_long_mb: l.peak_rss_mb, ratio_long_to_short: round(l.peak_rss_mb / s.peak_rss_mb, 2),
+    median_rss_short_mb: s.median_rss_mb, median_rss_long_mb: l.median_rss_mb,
     live_heap_short_mb: s.live_heap_mb, live_heap_long_mb: l.live_heap_mb, rss_10min_mb: z.peak_rss_mb, short_scans: s.messages, long_scans: l.messages,
     short_scans_per_s: Math.round(s.messages / s.wall_s), profiled: profile,
   }));

@@ -115,8 +115,15 @@ export interface GroupOutput {
   elementApparentMicro: Float64Array;
   elementMechanicalMicro: Float64Array;
   elementResidualMicro: Float64Array;
-  /** Scratch. */
-  work: { x: Float64Array; dirs: Float64Array; w9: Float64Array; gaugeFactor: Float64Array; thermalMicro: Float64Array };
+  /**
+   * Scratch; and the temperature-only terms per element (gaugeFactor, thermalMicro) with what they
+   * were computed for (model, temperature, free strain), reused while those stay the same. Models
+   * are not changed after compilation, so the model's identity names its constants.
+   */
+  work: {
+    x: Float64Array; dirs: Float64Array; w9: Float64Array; gaugeFactor: Float64Array; thermalMicro: Float64Array;
+    thermalFor: GroupModel | null; thermalT: number; thermalFree: number;
+  };
 }
 
 export function createGroupOutput(m: number): GroupOutput {
@@ -146,6 +153,7 @@ export function createGroupOutput(m: number): GroupOutput {
     work: {
       x: new Float64Array(6), dirs: new Float64Array(9), w9: new Float64Array(9),
       gaugeFactor: new Float64Array(m), thermalMicro: new Float64Array(m),
+      thermalFor: null, thermalT: Number.NaN, thermalFree: Number.NaN,
     },
   };
 }

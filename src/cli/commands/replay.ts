@@ -16,7 +16,6 @@ import { renderBuiltReport } from '../../report/render-report.js';
 import { ReportBuilder } from '../../report/report-builder.js';
 import { teeAsync } from '../../app/tee-messages.js';
 import { reportAlarm, reportLimits } from '../../app/report-inputs.js';
-import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
 import type { RawMessage } from '../../model/raw-message.js';
@@ -127,6 +126,8 @@ export function replayCommand(): Command {
         await writeFile(await ensureParent(o.report), html);
         process.stderr.write(`report written to ${o.report}\n`);
         if (o.reportPdf) {
+          // Loaded only when asked for: the browser driver is large.
+          const { htmlToPdf } = await import('../../adapters/pdf/html-to-pdf.js');
           await htmlToPdf(html, await ensureParent(o.reportPdf));
           process.stderr.write(`PDF written to ${o.reportPdf}\n`);
         }

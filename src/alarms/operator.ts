@@ -2,6 +2,7 @@ import { concatMap, defer, from, map, Observable, type OperatorFunction, type Sc
 import type { AlarmsConfig } from './schema.js';
 import type { AckRefusal, AlarmInput, AlarmLookups, AlarmTransition, Tick } from './types.js';
 import { createAlarmEngine, type AlarmEngine } from './engine/engine.js';
+import { syncFlatMap } from './sync-flat-map.js';
 
 /** One input's outcome: its transitions and refusals, and the engine state right after. */
 export interface AlarmBatch {
@@ -33,11 +34,13 @@ export function alarmBatches(
     defer(() => {
       const engine = createAlarmEngine(cfg, lookups, options.snapshotJson);
       options.onEngine?.(engine);
+      const none: AlarmBatch[] = [];
+      const snapshot = () => engine.snapshot();
       return source.pipe(
-        concatMap((input) => {
+        syncFlatMap((input) => {
           const out = engine.step(input);
-          if (out.transitions.length === 0 && out.refusals.length === 0) return [];
-          return [{ input, ...out, snapshot: () => engine.snapshot() }];
+          if (out.transitions.length === 0 && out.refusals.length === 0) return none;
+          return [{ input, ...out, snapshot }];
         }),
       );
     });

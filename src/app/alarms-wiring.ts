@@ -6,6 +6,7 @@ import {
 import type { AckVerdict } from '../alarms/ack.js';
 import type { Ack, AckRefusal, Alarm, AlarmInput, AlarmLookups, ComponentFault, AlarmTransition, FatigueInput, TransitionKind } from '../alarms/types.js';
 import { redactUrl } from '../adapters/secret.js';
+import { syncFlatMap } from '../alarms/sync-flat-map.js';
 import type { Point, PointWriter } from '../model/point.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
 import { openAlarmState, type AlarmStateDeps } from './alarm-state-file.js';
@@ -203,7 +204,7 @@ export function attachAlarms(processed$: Observable<FrameOutput<unknown>>, acks$
   let engine: AlarmEngine | undefined;
   const closing$ = new Subject<void>();
   const items$ = connectable(concat(from(deps.startInputs ?? []).pipe(map((input): Item => ({ kind: 'input', input }))), merge(
-    processed$.pipe(concatMap((o) => toAlarmInputs(o).map((input): Item => ({ kind: 'input', input })))),
+    processed$.pipe(syncFlatMap((o) => toAlarmInputs(o).map((input): Item => ({ kind: 'input', input })))),
     acks$.pipe(map((e): Item => (e.ok ? { kind: 'input', input: e.ack } : { kind: 'refusal', refusal: e.refusal }))),
     ...(deps.componentFaults$ === undefined ? [] : [deps.componentFaults$.pipe(map((input): Item => ({ kind: 'input', input })))]),
     ...(deps.fatigue$ === undefined ? [] : [deps.fatigue$.pipe(map((input): Item => ({ kind: 'input', input })))]),

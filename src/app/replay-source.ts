@@ -10,6 +10,12 @@ export interface ReplaySourceOptions {
   sleep: (ms: number) => Promise<void>;
   /** Called after each message with the running count. */
   onMessage?: (count: number, raw: RawMessage) => void;
+  /**
+   * Asked before each message: a promise to wait for before reading on (the writes are behind),
+   * or null to go on. A capture reads faster than results are written; without it the writes
+   * waiting would grow with the length of the capture.
+   */
+  hold?: () => Promise<void> | null;
 }
 
 /** A replayed message: acknowledging it does nothing (the capture is not a broker). */
@@ -31,6 +37,9 @@ export function replaySource(messages: AsyncIterable<RawMessage>, o: ReplaySourc
       let previousArrival = Number.NaN;
       let count = 0;
       for await (const raw of messages) {
+        if (cancelled) return;
+        const wait = o.hold?.();
+        if (wait) await wait;
         if (cancelled) return;
         if (o.speed > 0 && previousArrival === previousArrival && raw.arrivalMs > previousArrival) {
           await o.sleep((raw.arrivalMs - previousArrival) / o.speed);

@@ -1,6 +1,7 @@
-import type { GroupResult, ResultQuantity } from '../model/result.js';
+import type { ResultQuantity } from '../model/result.js';
 import { esc, isoTime } from './format.js';
-import { downsample, findGaps, segmentsOf, type Gap } from './series.js';
+import type { GroupAccumulator } from './group-accumulator.js';
+import { downsample } from './series.js';
 import { lineChart, type ChartBand, type ChartSeries } from './svg-chart.js';
 import type { QuantityLimits } from './types.js';
 
@@ -11,14 +12,12 @@ export interface GroupSectionContext {
   fromMs: number;
   toMs: number;
   widthPx: number;
-  gapFactor: number;
   limits: QuantityLimits;
-  /** Results of the second run for this group (drawn dashed), if any. */
-  comparison?: { label: string; results: readonly GroupResult[] };
+  /** The second run's accumulator for this group (its von Mises drawn dashed), if any. */
+  comparison?: { label: string; group: GroupAccumulator };
   runLabel: string;
 }
 
-const has = (rs: readonly GroupResult[], q: ResultQuantity) => rs.some((r) => r.values[q] !== undefined && Number.isFinite(r.values[q]!));
 const short = (q: string) => q.replace(/^stress_/, '').replace(/_MPa$|_deg$|_degC$|_micro$/, '');
 
 function bandsFor(limits: QuantityLimits, groupId: string, qs: readonly ResultQuantity[]): ChartBand[] {
@@ -26,49 +25,39 @@ function bandsFor(limits: QuantityLimits, groupId: string, qs: readonly ResultQu
     .map((b) => ({ level: `${short(q)} ${b.level}`, upper: b.upper, lower: b.lower })));
 }
 
-/** Gaps of a group's data (time pauses), for shading and listing. */
-export function groupGaps(results: readonly GroupResult[], gapFactor: number): Gap[] {
-  return findGaps(results.map((r) => r.timeMs), gapFactor);
-}
-
 /** One group's plots: stresses, equivalent and principal stresses, temperature, angle (plane), residual (redundant). Pure. */
-export function groupSection(groupId: string, results: readonly GroupResult[], ctx: GroupSectionContext): string {
-  const gaps = groupGaps(results, ctx.gapFactor);
-  const series = (q: ResultQuantity, i: number, rs: readonly GroupResult[] = results, dashed = false, label = short(q), periodDeg = 0): ChartSeries => ({
+export function groupSection(g: GroupAccumulator, ctx: GroupSectionContext): string {
+  const groupId = g.groupId;
+  const gaps = g.gaps();
+  const series = (q: ResultQuantity, i: number, from: GroupAccumulator = g, dashed = false, label = short(q)): ChartSeries => ({
     id: `${groupId}:${q}${dashed ? ':b' : ''}`, label, color: PALETTE[i % PALETTE.length], dashed,
-    segments: downsample(segmentsOf(rs, q, dashed ? findGaps(rs.map((r) => r.timeMs), ctx.gapFactor) : gaps, periodDeg), ctx.fromMs, ctx.toMs, ctx.widthPx),
+    segments: downsample(from.segments(q), ctx.fromMs, ctx.toMs, ctx.widthPx),
   });
   const chart = (title: string, unit: string, qs: ResultQuantity[], extra: ChartSeries[] = []) => lineChart({
     title, unit, fromMs: ctx.fromMs, toMs: ctx.toMs, widthPx: ctx.widthPx, gaps,
     series: [...qs.map((q, i) => series(q, i)), ...extra], bands: bandsFor(ctx.limits, groupId, qs),
   });
-  const first = results[0];
   const out: string[] = [`<section class="group" id="group-${esc(groupId)}">`, `<h3>${esc(groupId)}</h3>`];
-  out.push(`<p class="meta">zone ${esc(first.zone)} · logger ${esc(first.loggerId)} · ${results.length} results</p>`);
-  const stressQs = STRESS_QS.filter((q) => has(results, q));
+  out.push(`<p class="meta">zone ${esc(g.zone)} · logger ${esc(g.loggerId)} · ${g.count} results</p>`);
+  const stressQs = STRESS_QS.filter((q) => g.has(q));
   if (stressQs.length) out.push(chart('Stress components', 'MPa', stressQs));
-  const eqQs = (['von_mises_MPa', 'principal_1_MPa', 'principal_2_MPa', 'principal_3_MPa'] as ResultQuantity[]).filter((q) => has(results, q));
-  const cmp = ctx.comparison && has(ctx.comparison.results, 'von_mises_MPa')
-    ? [series('von_mises_MPa', 5, ctx.comparison.results, true, `von_mises (${ctx.comparison.label})`)] : [];
+  const eqQs = (['von_mises_MPa', 'principal_1_MPa', 'principal_2_MPa', 'principal_3_MPa'] as ResultQuantity[]).filter((q) => g.has(q));
+  const cmp = ctx.comparison && ctx.comparison.group.has('von_mises_MPa')
+    ? [series('von_mises_MPa', 5, ctx.comparison.group, true, `von_mises (${ctx.comparison.label})`)] : [];
   if (eqQs.length) out.push(chart('Equivalent and principal stresses', 'MPa', eqQs, cmp));
-  if (has(results, 'temperature_degC')) out.push(chart('Temperature used', '°C', ['temperature_degC']));
-  if (has(results, 'principal_angle_deg')) {
-    // Where the in-plane stress is nearly equal in every direction the principal direction is not
-    // defined by the data (noise swings it through 180 degrees): draw it only where it means something.
-    const radius = (r: GroupResult) => ((r.values.principal_1_MPa ?? 0) - (r.values.principal_2_MPa ?? 0)) / 2;
-    const floor = Math.max(0.5, 0.05 * results.reduce((m, r) => Math.max(m, radius(r)), 0));
-    const masked = results.map((r) => (radius(r) >= floor ? r : { ...r, values: { ...r.values, principal_angle_deg: undefined } }));
-    out.push(chart('Principal direction (angle from x to principal 1)', 'degrees', [], [series('principal_angle_deg', 0, masked, false, 'principal_angle', 180)]));
-    out.push(`<p class="meta">Angle drawn where the in-plane maximum shear stress is at least ${floor.toFixed(2)} MPa.</p>`);
+  if (g.has('temperature_degC')) out.push(chart('Temperature used', '°C', ['temperature_degC']));
+  if (g.has('principal_angle_deg')) {
+    // Drawn only where the in-plane stress is not nearly equal in every direction (angleFloorMPa).
+    out.push(chart('Principal direction (angle from x to principal 1)', 'degrees', [], [series('principal_angle_deg', 0, g, false, 'principal_angle')]));
+    out.push(`<p class="meta">Angle drawn where the in-plane maximum shear stress is at least ${g.angleFloor().toFixed(2)} MPa.</p>`);
   }
-  const residualQs = (['residual_rms_micro', 'fit_std_error_micro'] as ResultQuantity[]).filter((q) => has(results, q));
+  const residualQs = (['residual_rms_micro', 'fit_std_error_micro'] as ResultQuantity[]).filter((q) => g.has(q));
   if (residualQs.length) out.push(chart('Least-squares residual (redundant group): RMS, and the fit standard error the limit compares', 'microstrain', residualQs));
-  if (gaps.length) {
-    out.push(`<p class="gaps">Data gaps (missing data is itself an alarm): ${gaps.map((g) =>
-      `${esc(isoTime(g.fromMs))} – ${esc(isoTime(g.toMs))} (${((g.toMs - g.fromMs) / 1000).toFixed(1)} s)`).join('; ')}</p>`);
+  if (gaps.length || g.gapsNotListed) {
+    out.push(`<p class="gaps">Data gaps (missing data is itself an alarm): ${gaps.map((x) =>
+      `${esc(isoTime(x.fromMs))} – ${esc(isoTime(x.toMs))} (${((x.toMs - x.fromMs) / 1000).toFixed(1)} s)`).join('; ')}${g.gapsNotListed ? `; and ${g.gapsNotListed} further pauses not listed` : ''}</p>`);
   }
-  const flagged = results.filter((r) => r.flags.length > 0).length;
-  if (flagged) out.push(`<p class="meta">${flagged} of ${results.length} results carry quality flags.</p>`);
+  if (g.flagged) out.push(`<p class="meta">${g.flagged} of ${g.count} results carry quality flags.</p>`);
   out.push('</section>');
   return out.join('\n');
 }

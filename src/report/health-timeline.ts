@@ -14,24 +14,35 @@ export function alarmLabel(a: ReportAlarmTransition): string {
 }
 
 /**
- * Active spans of the alarms of one class from their transitions: an alarm is active from a
- * transition into an `active_*` state until one into `cleared_*` or `closed`. New array, by start.
+ * Active spans of alarms as their transitions come in time order: an alarm is active from a
+ * transition into an `active_*` state until one into `cleared_*` or `closed`. Memory: the spans.
  */
-export function activeSpans(transitions: readonly ReportAlarmTransition[], cls: 'structural' | 'health'): ActiveSpan[] {
-  const open = new Map<string, ActiveSpan>();
-  const spans: ActiveSpan[] = [];
-  const sorted = transitions.filter((t) => t.class === cls).sort((a, b) => a.time_ms - b.time_ms);
-  for (const t of sorted) {
+export class SpanTracker {
+  private readonly open = new Map<string, ActiveSpan>();
+  readonly spans: ActiveSpan[] = [];
+
+  add(t: ReportAlarmTransition): void {
     const active = t.state.startsWith('active');
-    const cur = open.get(t.alarm_id);
+    const cur = this.open.get(t.alarm_id);
     if (active && cur === undefined) {
       const span: ActiveSpan = { alarm_id: t.alarm_id, label: alarmLabel(t), level: t.level, fromMs: t.time_ms, toMs: null };
-      open.set(t.alarm_id, span);
-      spans.push(span);
+      this.open.set(t.alarm_id, span);
+      this.spans.push(span);
     } else if (active && cur) cur.level = t.level;
-    else if (!active && cur) { cur.toMs = t.time_ms; open.delete(t.alarm_id); }
+    else if (!active && cur) { cur.toMs = t.time_ms; this.open.delete(t.alarm_id); }
   }
-  return spans.sort((a, b) => a.fromMs - b.fromMs);
+
+  /** The spans by start (new array). */
+  sorted(): ActiveSpan[] {
+    return [...this.spans].sort((a, b) => a.fromMs - b.fromMs);
+  }
+}
+
+/** Active spans of the alarms of one class from their transitions (any order). New array, by start. */
+export function activeSpans(transitions: readonly ReportAlarmTransition[], cls: 'structural' | 'health'): ActiveSpan[] {
+  const tracker = new SpanTracker();
+  for (const t of transitions.filter((x) => x.class === cls).sort((a, b) => a.time_ms - b.time_ms)) tracker.add(t);
+  return tracker.sorted();
 }
 
 const ROW = 18;

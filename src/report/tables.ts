@@ -24,11 +24,12 @@ export function flaggedExtremesTable(peaks: readonly GroupPeaks[]): string {
 }
 
 /** Every alarm transition in time order, in columns that fit a printed page. Pure. */
-export function alarmsTable(alarms: readonly ReportAlarmTransition[]): string {
+export function alarmsTable(alarms: readonly ReportAlarmTransition[], notListed = 0): string {
   if (alarms.length === 0) return '<p>No alarm changed state in this period.</p>';
+  const more = notListed > 0 ? `<p class="warning">${notListed} later transitions are not listed here (the table stops at ${alarms.length}); the alarm log and sw_alarm hold every one, and the timelines above draw them all.</p>` : '';
   const subject = (a: ReportAlarmTransition) => [a.group_id, a.channel, a.quantity].filter((x) => x !== undefined && x !== '').join(' · ');
   const rows = [...alarms].sort((a, b) => a.time_ms - b.time_ms).map((a) => `<tr class="${a.class}"><td>${esc(isoTime(a.time_ms))}</td><td>${esc(a.class)}</td><td>${esc(a.level)}</td><td>${esc(a.state.replace(/_/g, ' '))}</td><td>${esc(subject(a))}<br/><small>${esc(a.alarm_id)}</small></td>${cell(a.value, 3)}${cell(a.limit, 3)}<td>${esc(a.message)}</td></tr>`);
-  return `<table class="alarms"><colgroup><col style="width:15%"/><col style="width:9%"/><col style="width:9%"/><col style="width:17%"/><col style="width:20%"/><col style="width:8%"/><col style="width:8%"/><col style="width:14%"/></colgroup><thead><tr><th>time (UTC)</th><th>class</th><th>level</th><th>state</th><th>subject and alarm</th><th>value</th><th>limit</th><th>message</th></tr></thead><tbody>${rows.join('')}</tbody></table>`;
+  return `<table class="alarms"><colgroup><col style="width:15%"/><col style="width:9%"/><col style="width:9%"/><col style="width:17%"/><col style="width:20%"/><col style="width:8%"/><col style="width:8%"/><col style="width:14%"/></colgroup><thead><tr><th>time (UTC)</th><th>class</th><th>level</th><th>state</th><th>subject and alarm</th><th>value</th><th>limit</th><th>message</th></tr></thead><tbody>${rows.join('')}</tbody></table>${more}`;
 }
 
 /** The capture's gaps: what the replay could not read, with where and how much. Pure. */

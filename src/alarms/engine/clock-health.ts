@@ -1,5 +1,6 @@
 import type { AlarmTransition, LoggerInfo, RefusedMessage } from '../types.js';
-import { evaluate, type EngineContext } from './evaluate.js';
+import { evaluate, settledAtZero, type EngineContext } from './evaluate.js';
+import { alarmKey, loggerSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 
 /**
@@ -12,9 +13,12 @@ export function evaluateClock(ctx: EngineContext, loggerId: string, logger: Logg
   if (!clock.enabled) return [];
   const offsetS = (timeMs - arrivalMs) / 1000;
   const ahead = offsetS > clock.ahead_s;
-  const d = healthDescriptor(ctx, 'clock_offset', `l:${loggerId}`, { kind: 'logger', loggerId },
+  const present = ahead || offsetS < -clock.behind_s;
+  const subjectKey = loggerSubjectKey(loggerId);
+  if (!present && settledAtZero(ctx, alarmKey('clock_offset', subjectKey), undefined, offsetS, null)) return [];
+  const d = healthDescriptor(ctx, 'clock_offset', subjectKey, { kind: 'logger', loggerId },
     logger.zone, logger.location, 'clock_offset_s', 's');
-  return evaluate(ctx, d, healthEvaluation(ctx, 'clock_offset', ahead || offsetS < -clock.behind_s, arrivalMs, offsetS,
+  return evaluate(ctx, d, healthEvaluation(ctx, 'clock_offset', present, arrivalMs, offsetS,
     ahead ? clock.ahead_s : -clock.behind_s));
 }
 

@@ -25,6 +25,28 @@ export function keyState(ctx: EngineContext, key: string, levels: number): KeySt
   return ks;
 }
 
+/**
+ * An evaluation with raw level 0 that can change nothing but the shown value, done without its
+ * descriptor: the common case (most readings and results raise nothing), which builds nothing.
+ * It applies when the key is steady at zero (the condition absent before, nothing confirmed, every
+ * level's absence already dated) and has no alarm, or only one that is cleared, unacknowledged and
+ * not flapping, whose value and trend it updates as `evaluate` would. Returns false (nothing done)
+ * otherwise: the caller then calls `evaluate`. Mutates `ctx.state`.
+ */
+export function settledAtZero(ctx: EngineContext, key: string, ks: KeyState | undefined, value: number | null, trendPerS: number | null): boolean {
+  const k = ks ?? ctx.state.keys[key];
+  if (k === undefined) return true;
+  if (k.prevRaw !== 0 || k.debounce.confirmed !== 0) return false;
+  const above = k.debounce.aboveSinceMs, below = k.debounce.belowSinceMs;
+  for (let i = 1; i < above.length; i++) if (above[i] !== null || below[i] === null) return false;
+  const alarm = ctx.state.alarms[key];
+  if (alarm === undefined) return true;
+  if (alarm.state !== 'cleared_unacknowledged' || alarm.flapping) return false;
+  alarm.value = value;
+  alarm.trendPerS = trendPerS;
+  return true;
+}
+
 /** One detector evaluation, before delays. */
 export interface RawEvaluation {
   /** Raw level: 0 = condition absent, i = the i-th (1-based) of the detector's levels. */

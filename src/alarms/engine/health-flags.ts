@@ -2,7 +2,8 @@ import type { GroupResult } from '../../model/result.js';
 import type { QualityFlag } from '../../model/quality.js';
 import type { HealthCheck } from '../schema.js';
 import type { AlarmTransition } from '../types.js';
-import { evaluate, type EngineContext } from './evaluate.js';
+import { evaluate, settledAtZero, type EngineContext } from './evaluate.js';
+import { alarmKey, groupSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 
 /** The health check that explains each quality flag. */
@@ -38,18 +39,22 @@ const FLAG_QUANTITY: Record<(typeof FLAG_CHECKS)[number], { quantity: 'fit_std_e
  */
 export function evaluateFlags(ctx: EngineContext, r: GroupResult): AlarmTransition[] {
   const out: AlarmTransition[] = [];
-  const present = new Set(r.flags.map((f) => FLAG_HEALTH_CHECK[f]));
-  const group = ctx.lookups.groups.get(r.groupId);
+  const subjectKey = groupSubjectKey(r.groupId);
+  const flagged = r.flags.length > 0;
   for (const check of FLAG_CHECKS) {
     if (!ctx.cfg.health[check].enabled) continue;
+    const present = flagged && r.flags.some((f) => FLAG_HEALTH_CHECK[f] === check);
     const q = FLAG_QUANTITY[check];
+    const value = q.quantity === null ? null : (r.values[q.quantity] ?? null);
+    // An unflagged result of a group with nothing raised (or only a cleared alarm): no descriptor built.
+    if (!present && settledAtZero(ctx, alarmKey(check, subjectKey), undefined, value, null)) continue;
     const flags = r.flags.filter((f) => FLAG_HEALTH_CHECK[f] === check);
+    const group = ctx.lookups.groups.get(r.groupId);
     const d = healthDescriptor(
-      ctx, check, `g:${r.groupId}`, { kind: 'group', groupId: r.groupId }, r.zone,
+      ctx, check, subjectKey, { kind: 'group', groupId: r.groupId }, r.zone,
       group?.location ?? r.groupId, q.quantity ?? (flags.join('+') || check), q.units,
     );
-    const value = q.quantity === null ? null : (r.values[q.quantity] ?? null);
-    out.push(...evaluate(ctx, d, healthEvaluation(ctx, check, present.has(check), r.timeMs, value, null)));
+    out.push(...evaluate(ctx, d, healthEvaluation(ctx, check, present, r.timeMs, value, null)));
   }
   return out;
 }

@@ -1,6 +1,7 @@
 import type { LoggerFrame } from '../../model/raw-message.js';
 import type { AlarmTransition, LoggerInfo } from '../types.js';
-import { evaluate, type EngineContext } from './evaluate.js';
+import { evaluate, settledAtZero, type EngineContext } from './evaluate.js';
+import { alarmKey, loggerSubjectKey } from './key-cache.js';
 import { healthDescriptor, healthEvaluation } from './health-common.js';
 import { newSequenceState, sequenceStep } from './sequence.js';
 
@@ -23,8 +24,11 @@ export function evaluateSequence(ctx: EngineContext, f: LoggerFrame, logger: Log
   sequenceStep(s, f.seq, f.timeMs, f.arrivalMs, HOUR_MS, keep);
   if (!check.enabled) return [];
   const inLastHour = s.restartsMs.length;
-  const d = healthDescriptor(ctx, 'sequence_restart', `l:${f.loggerId}`, { kind: 'logger', loggerId: f.loggerId },
+  const present = inLastHour > check.max_per_hour;
+  const subjectKey = loggerSubjectKey(f.loggerId);
+  if (!present && settledAtZero(ctx, alarmKey('sequence_restart', subjectKey), undefined, inLastHour, null)) return [];
+  const d = healthDescriptor(ctx, 'sequence_restart', subjectKey, { kind: 'logger', loggerId: f.loggerId },
     logger.zone, logger.location, 'seq_restarts_per_hour', '1/h');
-  return evaluate(ctx, d, healthEvaluation(ctx, 'sequence_restart', inLastHour > check.max_per_hour, f.arrivalMs, inLastHour,
+  return evaluate(ctx, d, healthEvaluation(ctx, 'sequence_restart', present, f.arrivalMs, inLastHour,
     check.max_per_hour));
 }

@@ -5,7 +5,9 @@ import { unitOfQuantity } from '../units.js';
 import { compileLimit, limitLevel, limitValue, type CompiledLimit } from './limit-rule.js';
 import { rateLevel, rateLimit, rateStep } from './rate-rule.js';
 import { newSampleWindow, pushSample, slopePerS } from './sample-window.js';
-import { evaluate, keyState, type EngineContext } from './evaluate.js';
+import { evaluate, keyState, settledAtZero, type EngineContext, type RawEvaluation } from './evaluate.js';
+import type { KeyState } from './state.js';
+import { alarmKey, groupSubjectKey } from './key-cache.js';
 import type { AlarmDescriptor } from './lifecycle.js';
 
 /** Whether a rule's scope covers a group. */
@@ -39,32 +41,44 @@ export function evaluateStructural(ctx: EngineContext, compiled: CompiledRules, 
   for (const rule of compiled.rules) {
     const value = r.values[rule.quantity];
     if (value === undefined || !inScope(rule, r.groupId, r.zone)) continue;
-    const key = `${rule.id}|g:${r.groupId}`;
+    const subjectKey = groupSubjectKey(r.groupId);
+    const key = alarmKey(rule.id, subjectKey);
     const ks = keyState(ctx, key, rule.thresholds.length);
     ks.trend ??= newSampleWindow();
     pushSample(ks.trend, r.timeMs, value, trendMs, trendMs / 120);
-    const trend = slopePerS(ks.trend, trendMs / 10);
-    const units = unitOfQuantity(rule.quantity);
-    const d: AlarmDescriptor = {
-      key, subjectKey: `g:${r.groupId}`, ruleId: rule.id, alarmClass: 'structural',
-      subject: { kind: 'group', groupId: r.groupId }, zone: r.zone, location: group?.location ?? r.groupId,
-      quantity: rule.kind === 'rate' ? `rate_of_${rule.quantity}` : rule.quantity,
-      units: rule.kind === 'rate' ? `${units}/s` : units, action: rule.action,
-    };
-    const common = {
-      tMs: r.timeMs, onDelayMs: rule.on_delay_s * 1000, offDelayMs: rule.off_delay_s * 1000,
-      levelNames: rule.thresholds.map((t) => t.level), trendPerS: trend,
-    };
+    let raw: number;
+    let measured: number;
     if (rule.kind === 'limit') {
-      const c = compiled.limits.get(rule.id)!;
-      const raw = limitLevel(c, value, ks.debounce.confirmed);
-      out.push(...evaluate(ctx, d, { ...common, raw, value, limitOf: (i) => limitValue(c, i) }, ks));
+      raw = limitLevel(compiled.limits.get(rule.id)!, value, ks.debounce.confirmed);
+      measured = value;
     } else {
       const slope = rateStep(rule, ks, r.timeMs, value);
       if (slope === null) continue; // too little history: no evidence either way
-      const raw = rateLevel(rule, slope, ks.debounce.confirmed);
-      out.push(...evaluate(ctx, d, { ...common, raw, value: slope, limitOf: (i) => rateLimit(rule, i) }, ks));
+      raw = rateLevel(rule, slope, ks.debounce.confirmed);
+      measured = slope;
     }
+    // Below every limit with nothing raised (or only a cleared alarm): nothing built.
+    if (raw === 0 && settledAtZero(ctx, key, ks, measured, ctx.state.alarms[key] === undefined ? null : slopePerS(ks.trend, trendMs / 10))) continue;
+    out.push(...evaluate(ctx, structuralDescriptor(rule, r, subjectKey, key, group?.location), structuralEvaluation(compiled, rule, ks, r.timeMs, raw, measured, trendMs), ks));
   }
   return out;
+}
+
+function structuralDescriptor(rule: ResultRule, r: GroupResult, subjectKey: string, key: string, location: string | undefined): AlarmDescriptor {
+  const units = unitOfQuantity(rule.quantity);
+  return {
+    key, subjectKey, ruleId: rule.id, alarmClass: 'structural',
+    subject: { kind: 'group', groupId: r.groupId }, zone: r.zone, location: location ?? r.groupId,
+    quantity: rule.kind === 'rate' ? `rate_of_${rule.quantity}` : rule.quantity,
+    units: rule.kind === 'rate' ? `${units}/s` : units, action: rule.action,
+  };
+}
+
+function structuralEvaluation(compiled: CompiledRules, rule: ResultRule, ks: KeyState, tMs: number, raw: number, value: number, trendMs: number): RawEvaluation {
+  const c = rule.kind === 'limit' ? compiled.limits.get(rule.id)! : null;
+  return {
+    tMs, onDelayMs: rule.on_delay_s * 1000, offDelayMs: rule.off_delay_s * 1000,
+    levelNames: rule.thresholds.map((t) => t.level), trendPerS: slopePerS(ks.trend!, trendMs / 10),
+    raw, value, limitOf: rule.kind === 'limit' ? (i) => limitValue(c!, i) : (i) => rateLimit(rule, i),
+  };
 }

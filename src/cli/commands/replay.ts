@@ -11,12 +11,15 @@ import { loadRuntimeFile } from '../../config/load-runtime.js';
 import { ProgressBar } from '../../app/progress.js';
 import { replay, type ReplaySummary } from '../../app/replay.js';
 import { ensureParent, openPointSink } from '../../app/sinks.js';
-import { MemorySink } from '../../adapters/memory-sink.js';
-import { renderReport } from '../../report/render-report.js';
+import { DiscardSink } from '../../adapters/discard-sink.js';
+import { renderBuiltReport } from '../../report/render-report.js';
+import { ReportBuilder } from '../../report/report-builder.js';
+import { teeAsync } from '../../app/tee-messages.js';
 import { reportAlarm, reportFatigue, reportLimits } from '../../app/report-inputs.js';
-import { htmlToPdf } from '../../adapters/pdf/html-to-pdf.js';
 import type { CompiledStructure } from '../../config/compile.js';
 import type { PointSink } from '../../model/point.js';
+import type { RawMessage } from '../../model/raw-message.js';
+import type { GroupResult } from '../../model/result.js';
 import { parseOptions } from '../options.js';
 import { readAuditRecords } from '../../app/rezero-files.js';
 import { remainingLifeYears } from '../../fatigue/detail.js';
@@ -80,22 +83,22 @@ export function replayCommand(): Command {
       const showProgress = o.progress ?? Boolean(process.stderr.isTTY);
       let clockMs = 0; // output files are named by data time, so a replay's output is the same run after run
       const gaps: CaptureGap[] = []; // of the first run (a comparison reads the same capture)
-      const run = async (s: CompiledStructure, tag: string, sink: PointSink, collect: boolean): Promise<ReplaySummary> => {
-        const onGap = tag === o.runTag ? (g: CaptureGap) => {
-          gaps.push(g);
-          process.stderr.write(`${gapLine(g)}\n`);
-        } : undefined;
-        const bar = showProgress ? new ProgressBar(total, process.stderr, Date.now, tag) : null;
+      // The report is gathered as the replay streams (ReportBuilder): nothing of the run is kept whole.
+      const builder = o.report ? new ReportBuilder({ comparison: o.compareStructure !== undefined }) : null;
+      const run = async (s: CompiledStructure, tag: string, sink: PointSink, messages: AsyncIterable<RawMessage>, feed: ((r: GroupResult) => void) | null, bar: ProgressBar | null): Promise<ReplaySummary> => {
+        const deadLetters = new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`)));
         const summary = await replay({
-          structure: s, messages: readCapture(o.capture, window, onGap), sink, runTag: tag, tickMs: o.tickMs, speed: o.speed,
-          deadLetters: new NdjsonFileDeadLetterSink(await ensureParent(resolve(o.out, `${tag}-deadletters.ndjson`))),
+          structure: s, messages, sink, runTag: tag, tickMs: o.tickMs, speed: o.speed, deadLetters,
           topicPattern: loaded?.runtime.mqtt.topic_pattern, elementStrains: loaded?.runtime.results.element_strains,
-          maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, collectResults: collect, alarms: true, zeroRecords: audit.records,
+          maxFutureMs: loaded === null ? undefined : loaded.runtime.ingest.max_future_s * 1000, alarms: true, keepTransitions: false, zeroRecords: audit.records,
           fatigueStatePath: tag === o.runTag && o.fatigueState !== undefined ? resolve(o.fatigueState) : undefined,
           warn: (event, detail) => process.stderr.write(`${event}: ${String(detail.message ?? '')}\n`),
+          onTransitions: feed === null || tag !== o.runTag ? undefined : (ts) => { for (const t of ts) builder!.addAlarm(reportAlarm(t)); },
+          attach: feed === null ? undefined : (processed$) => { processed$.subscribe((p) => { if (p.kind === 'frame') for (const r of p.results) feed(r); }); },
           sleep: (ms) => new Promise((r) => setTimeout(r, ms)),
-          onMessage: (n, m) => { clockMs = m.arrivalMs; bar?.update(n); },
+          onMessage: (n, m) => { if (tag === o.runTag) { clockMs = m.arrivalMs; bar?.update(n); } },
         });
+        await deadLetters.close();
         bar?.finish(summary.messages);
         for (const k of summary.rezero.skipped) process.stderr.write(`rezero ${k.id} not applied (${tag}): ${k.reason}\n`);
         return summary;
@@ -108,8 +111,17 @@ export function replayCommand(): Command {
       const sink = replayRuntime
         ? (await openPointSink(replayRuntime, loaded!.baseDir, Date.now)).sink
         : new LineFileSink({ dir: resolve(o.out), prefix: o.runTag, maxFileBytes: 1024 ** 4, maxFileAge_ms: Number.MAX_SAFE_INTEGER, now: () => clockMs });
-      const first = await run(structure, o.runTag, sink, o.report !== undefined);
-      process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitions.length} alarm transitions\n`);
+      const capture = readCapture(o.capture, window, (g) => { gaps.push(g); process.stderr.write(`${gapLine(g)}\n`); });
+      const bar = showProgress ? new ProgressBar(total, process.stderr, Date.now, o.runTag) : null;
+      // A comparison replays the same read of the capture side by side (teeAsync), so the two runs'
+      // results meet in the report's comparer within a bounded wait.
+      const [mine, theirs] = o.compareStructure ? teeAsync(capture, 2) : [capture];
+      const compareStructure = o.compareStructure ? await loadStructureFile(o.compareStructure) : null;
+      const [first, second] = await Promise.all([
+        run(structure, o.runTag, sink, mine, builder && ((r) => builder.addResult(r)), bar),
+        compareStructure ? run(compareStructure, `${o.runTag}-compare`, new DiscardSink(), theirs, (r) => builder!.addComparisonResult(r), null) : null,
+      ]);
+      process.stderr.write(`replayed ${first.messages} messages: ${first.frames} frames, ${first.results} results, ${first.rejected} refused, ${first.transitionCount} alarm transitions\n`);
       for (const line of fatigueLines(first.fatigue)) process.stderr.write(`${line}\n`);
       if (first.messages === 0) {
         const span = `${o.from ?? 'its start'} to ${o.to ?? 'its end'}`;
@@ -118,21 +130,21 @@ export function replayCommand(): Command {
       const lost = gaps.reduce((n, g) => n + (g.messages ?? 0), 0);
       const gapSummary = `${gaps.length} capture gap${gaps.length === 1 ? '' : 's'}, ${lost} messages lost${gaps.some((g) => g.messages === null) ? ' (and some of unknown size)' : ''}`;
       if (gaps.length > 0) process.stderr.write(`${gapSummary}: results and alarms of those periods are missing\n`);
-      if (o.report) {
-        const compareStructure = o.compareStructure ? await loadStructureFile(o.compareStructure) : null;
-        const second = compareStructure ? await run(compareStructure, `${o.runTag}-compare`, new MemorySink(), true) : null;
+      if (o.report && builder) {
         const fatigue = structure.fatigue && first.fatigue
           ? reportFatigue(structure.fatigue, first.fatigue, compareStructure?.fatigue && second?.fatigue ? { cfg: compareStructure.fatigue, snapshot: second.fatigue } : undefined)
           : undefined;
-        const html = renderReport({
+        const html = renderBuiltReport({
           title: `${structure.config.structure.name} – diagnosis report of a replay`, structureId: structure.structureId, generatedAtMs: Date.now(),
-          run: { label: `run tag ${o.runTag}, configuration ${o.structure ?? o.config}`, results: first.collected }, alarms: first.transitions.map(reportAlarm),
+          runLabel: `run tag ${o.runTag}, configuration ${o.structure ?? o.config}`,
           limits: reportLimits(structure.alarms), captureGaps: gaps, levels: structure.alarms?.levels,
-          comparison: second ? { label: o.compareStructure!, results: second.collected } : undefined, fatigue,
-        });
+          comparisonLabel: second ? o.compareStructure! : undefined, fatigue,
+        }, builder);
         await writeFile(await ensureParent(o.report), html);
         process.stderr.write(`report written to ${o.report}\n`);
         if (o.reportPdf) {
+          // Loaded only when asked for: the browser driver is large.
+          const { htmlToPdf } = await import('../../adapters/pdf/html-to-pdf.js');
           await htmlToPdf(html, await ensureParent(o.reportPdf));
           process.stderr.write(`PDF written to ${o.reportPdf}\n`);
         }

@@ -20,6 +20,9 @@ export interface StoredBlock {
   message: GatedAck;
   /** Logger time of the frame, or of the newest line, epoch ms. */
   timeMs: number;
+  /** The frame's logger and its results, when the block is one frame's lines (absent: summaries, a window). */
+  loggerId?: string;
+  results?: number;
 }
 
 export interface StorageStageDeps {
@@ -71,12 +74,12 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       subscriber.next({ kind: 'encoded', block, message: { ack: () => { unwritten.delete(id); }, nack: () => {} }, timeMs: lastTimeMs });
     };
     /** Emits what the keeper wrote since the last take; the full-rate block releases `message` once persisted (null: none). */
-    const emit = (message: { ack(): void } | null) => {
+    const emit = (message: { ack(): void } | null, of?: { loggerId: string; results: number }) => {
       emitSummaries(keeper.takeSummaries());
       const block = keeper.takeLines();
       const gated = gate.item(message);
       if (block.lines === 0) gated.ack();
-      else subscriber.next({ kind: 'encoded', block, message: gated, timeMs: lastTimeMs });
+      else subscriber.next({ kind: 'encoded', block, message: gated, timeMs: lastTimeMs, ...of });
     };
 
     // Lines a previous run closed and had not seen durable: written again (the same bytes, the same points).
@@ -99,7 +102,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
         } else if (input.kind === 'frame') {
           keeper.frame(input.frame, input.results);
           lastTimeMs = input.frame.timeMs;
-          emit(input.message);
+          emit(input.message, { loggerId: input.frame.loggerId, results: input.results.length });
         }
         gate.poke();
         syncCounts();

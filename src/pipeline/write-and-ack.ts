@@ -43,6 +43,9 @@ export interface EncodedBlock<M> {
   block: LineBlock;
   message: M;
   timeMs: number;
+  /** The frame's logger and its results when the block is one frame's lines (absent: summaries, a window). */
+  loggerId?: string;
+  results?: number;
 }
 
 export interface WriteRetry {
@@ -155,7 +158,7 @@ export function writeAndAck<M extends Acknowledgeable>(
       next: (p) => {
         if (p.kind !== 'frame' && p.kind !== 'encoded') return;
         // Encoded at once, and only the message kept: the results are let go here.
-        const q: Queued<M> = p.kind === 'encoded' ? { written: { message: p.message, loggerId: null, timeMs: p.timeMs, results: 0 }, block: p.block }
+        const q: Queued<M> = p.kind === 'encoded' ? { written: { message: p.message, loggerId: p.loggerId ?? null, timeMs: p.timeMs, results: p.results ?? 0 }, block: p.block }
           : { written: { message: p.message, loggerId: p.frame.loggerId, timeMs: p.frame.timeMs, results: p.results.length }, block: encode(p) };
         if (inFlight < concurrency && head === waiting.length) start(q);
         else waiting.push(q);

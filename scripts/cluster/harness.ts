@@ -22,6 +22,11 @@ import { countScenario, type ScenarioFigures } from '../faults/count.js';
 
 export const CLUSTER_NAME = 'loopback';
 const MAX_HELD_ACKS = 256;
+/**
+ * Samples of one series at one timestamp kept once: a scan redelivered after a takeover or a broker
+ * failover rewrites the very points it wrote before, and the database stores them once.
+ */
+const VM_ARGS = ['-dedup.minScrapeInterval=1ms'];
 
 export interface Harness {
   root: string;
@@ -80,7 +85,7 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
     const vms: VictoriaMetricsServer[] = [];
     for (let i = 0; i < (o.databases ?? 1); i++) {
       await mkdir(join(root, `vm${i}`));
-      const vm = await startVictoriaMetrics({ dataDir: join(root, `vm${i}`) });
+      const vm = await startVictoriaMetrics({ dataDir: join(root, `vm${i}`), extraArgs: VM_ARGS });
       vms.push(vm);
       cleanups.push(() => vms[i].stop());
     }
@@ -146,7 +151,7 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
     return {
       root, clusterFile, etcd, broker, nats, vms, structures,
       killVm(i) { process.kill(vms[i].pid, 'SIGKILL'); },
-      async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port }); }, units, processors, publishers, logFiles, holders,
+      async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port, extraArgs: VM_ARGS }); }, units, processors, publishers, logFiles, holders,
       async allHeld(timeoutMs = 30_000) {
         const deadline = Date.now() + timeoutMs;
         for (;;) {

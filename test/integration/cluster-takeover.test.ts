@@ -71,6 +71,8 @@ async function run(h: Harness, faults: Fault[], crashed: { vm: number; window: (
   for (const f of figures) {
     expect(f.published).toBeGreaterThan(100);
     if (f.vm !== crashed?.vm) expect(f.lost).toBe(0);
+    // Stored once per series and timestamp, however often a scan was delivered.
+    expect(f.duplicated).toBe(0);
   }
   if (crashed !== null) {
     const [t0, t1] = crashed.window();

@@ -184,7 +184,7 @@ export interface VictoriaMetricsServer {
  * Starts VictoriaMetrics on a free (or the given) loopback port. Pass the `dataDir` and `port` of a
  * stopped server to restart it on the same data. A data dir this function created is removed on stop.
  */
-export async function startVictoriaMetrics(opts: { dataDir?: string; port?: number } = {}): Promise<VictoriaMetricsServer> {
+export async function startVictoriaMetrics(opts: { dataDir?: string; port?: number; extraArgs?: string[] } = {}): Promise<VictoriaMetricsServer> {
   const ownDir = opts.dataDir === undefined;
   const dataDir = opts.dataDir ?? (await mkdtemp(join(tmpdir(), 'sw-victoria-')));
   const port = opts.port ?? (await freePort());
@@ -194,6 +194,7 @@ export async function startVictoriaMetrics(opts: { dataDir?: string; port?: numb
     `-storageDataPath=${dataDir}`,
     '-search.latencyOffset=0s',
     '-retentionPeriod=100y',
+    ...(opts.extraArgs ?? []),
   ]);
   const healthy = async (): Promise<boolean> => {
     try {

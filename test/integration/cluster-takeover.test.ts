@@ -60,7 +60,7 @@ async function run(h: Harness, faults: Fault[], crashed: { vm: number; window: (
     for (let i = 0; i < h.structures.length; i++) {
       const to = h.publishers[i].nextSeq - 1;
       let f = await h.count(i, from[i], to, vm);
-      const until = Date.now() + (vm === crashed?.vm ? 15_000 : 90_000);
+      const until = Date.now() + (vm === crashed?.vm ? 5_000 : 90_000);
       while (f.lost > 0 && Date.now() < until) { await sleep(1000); f = await h.count(i, from[i], to, vm); }
       figures.push({ vm, ...f });
       step(`counted ${JSON.stringify({ vm, ...f })}`);

@@ -12,9 +12,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { promisify } from 'node:util';
 import mqtt, { type MqttClient } from 'mqtt';
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli as cli } from '../support/cli-in-process.js';
 import { startLive, type LiveProcessor } from '../../src/app/live.js';
-import { main } from '../../src/cli/main.js';
 import { brokerAclText } from '../../src/cli/commands/broker-acl.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
@@ -38,19 +38,6 @@ async function connectAs(login: string): Promise<MqttClient> {
   return mqtt.connectAsync(broker.url, { username: login, password: password(login), protocolVersion: 5, reconnectPeriod: 0, clientId: `t-${login}-${Math.random().toString(36).slice(2)}` });
 }
 
-/** Runs a CLI command in-process with the password variables set; its exit code and output. */
-async function cli(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c) => { err += String(c); return true; });
-  try {
-    return { code: await main(['node', 'strainward', ...args]), out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
 
 beforeAll(async () => {
   dir = await mkdtemp(join(tmpdir(), 'sw-acl-live-'));

@@ -10,10 +10,10 @@ import { mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import mqtt, { type MqttClient } from 'mqtt';
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli as cli } from '../support/cli-in-process.js';
 import { decodeLines } from '../../src/adapters/lineproto/decode.js';
 import { startLive, type LiveProcessor } from '../../src/app/live.js';
-import { main } from '../../src/cli/main.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
 import type { Point } from '../../src/model/point.js';
 import { startMosquitto, type MosquittoServer } from '../support/servers.js';
@@ -49,18 +49,6 @@ const start = async (): Promise<LiveProcessor> => startLive(await loadRuntimeFil
 const scan = (k: number, c1: number) => pub.publishAsync('strainward/test-structure/lg/scan', JSON.stringify({ ts: t0 + 100 * k, seq: k, values: { c1, c2: 0 } }), { qos: 1 });
 const temperature = (k: number, t: number) => pub.publishAsync('strainward/test-structure/th/scan', JSON.stringify({ ts: t0 + 100 * k, values: { t } }), { qos: 1 });
 
-async function cli(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c) => { err += String(c); return true; });
-  try {
-    return { code: await main(['node', 'strainward', ...args]), out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
 const rezero = (user: string, group: string) => cli(['rezero', '-c', runtime, '--group', group, '--user', user, '--reason', 'gauge re-bonded after the flange repair', '--timeout-ms', '5000']);
 
 beforeAll(async () => {

@@ -8,11 +8,11 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import mqtt, { type MqttClient } from 'mqtt';
-import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli as cli } from '../support/cli-in-process.js';
 import { startLive, type LiveProcessor } from '../../src/app/live.js';
 import { GroupStateSchema, type GroupState } from '../../src/app/state-topics/group-state.js';
 import { OpenAlarmsStateSchema, type OpenAlarmsState } from '../../src/app/state-topics/open-alarms.js';
-import { main } from '../../src/cli/main.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { freePort, startMosquitto, type MosquittoServer } from '../support/servers.js';
@@ -21,18 +21,6 @@ import { writeQuietRuntimeFile } from '../support/quiet-structure.js';
 
 const S = 'strainward/brannock-mere';
 
-async function cli(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c) => { err += String(c); return true; });
-  try {
-    return { code: await main(['node', 'strainward', ...args]), out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
 
 async function until<T>(what: string, probe: () => T | undefined | null | false, ms = 20_000): Promise<T> {
   const deadline = Date.now() + ms;

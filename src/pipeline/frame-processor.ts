@@ -105,6 +105,8 @@ export class FrameProcessor<M> {
   private readonly groups = new Map<string, GroupRuntime>();
   /** Scratch of releaseReady: per logger, the wait end of the frame it released last in this call. */
   private readonly releasedAt = new Map<string, number>();
+  /** Per logger, the longest bounded wait for temperature of its groups, ms (0: none). Configuration only. */
+  private readonly temperatureWaitMs = new Map<string, number>();
   private readonly held = new Map<string, Array<HeldFrame<M>>>();
   private readonly screen: ChannelScreen;
   private readonly temperatureScreen: TemperatureScreen;
@@ -114,6 +116,14 @@ export class FrameProcessor<M> {
   constructor(private readonly structure: CompiledStructure) {
     this.screen = new ChannelScreen(structure);
     this.temperatureScreen = new TemperatureScreen(structure.alarms?.health);
+    for (const [logger, groups] of structure.groupsByLogger) {
+      let wait = 0;
+      for (const g of groups) {
+        const join = g.config.temperature;
+        if (join.mode === 'interpolate' && join.max_wait_s > 0 && g.temperatures.length > 0) wait = Math.max(wait, join.max_wait_s * 1000);
+      }
+      this.temperatureWaitMs.set(logger, wait);
+    }
     for (const t of structure.temperatureSensors.values()) {
       let byChannel = this.sensorsByChannel.get(t.loggerId);
       if (byChannel === undefined) this.sensorsByChannel.set(t.loggerId, (byChannel = new Map()));
@@ -225,13 +235,8 @@ export class FrameProcessor<M> {
   /** When a held frame's wait runs out at the latest (pipeline clock): its bounded waits' end. */
   private waitEndMs(h: HeldFrame<M>): number {
     const frame = h.frame;
-    let end = frame.arrivalMs;
-    if (h.screen !== null && h.screen.held > 0) end = Math.max(end, frame.arrivalMs + this.screen.maxWaitMs(frame.loggerId));
-    for (const g of this.structure.groupsByLogger.get(frame.loggerId) ?? []) {
-      const join = g.config.temperature;
-      if (join.mode === 'interpolate' && join.max_wait_s > 0 && g.temperatures.length > 0) end = Math.max(end, frame.arrivalMs + join.max_wait_s * 1000);
-    }
-    return end;
+    const screenWait = h.screen !== null && h.screen.held > 0 ? this.screen.maxWaitMs(frame.loggerId) : 0;
+    return frame.arrivalMs + Math.max(screenWait, this.temperatureWaitMs.get(frame.loggerId) ?? 0);
   }
 
   private mustWait(h: HeldFrame<M>, clockMs: number): boolean {

@@ -17,6 +17,7 @@ import { z } from 'zod';
 import { startLive, type LiveProcessor } from '../app/live.js';
 import { isLoopbackHost } from '../adapters/http/page-access.js';
 import { loadRuntimeFile, type LoadedRuntime } from '../config/load-runtime.js';
+import { formatLogLine } from '../adapters/log/line-format.js';
 import { startEmbeddedBroker } from './embedded-broker.js';
 import { startWebhookReceiver } from './webhook-receiver.js';
 
@@ -136,9 +137,12 @@ async function main(): Promise<number> {
   try {
     live = await startLive(withPorts(loaded, broker.url, o.pagePort), {
       now: Date.now,
-      log: (event, detail) => {
-        log.info({ event, ...detail });
-        if (/failed|refused|high_water/.test(event)) say(`processor: ${event}${detail?.message ? `: ${String(detail.message)}` : ''}`);
+      log: (event, detail) => { log.info({ event, ...detail }); },
+      // The lines `run` writes as warnings (alarm transitions, losses and returns, refusals) are
+      // also said here, as `run` says them on a terminal: the person trying the demo sees them.
+      warn: (event, detail) => {
+        log.warn({ event, ...detail });
+        say(`processor: ${formatLogLine({ level: 40, time: Date.now(), event, ...detail })}`);
       },
     });
   } catch (err) {

@@ -116,6 +116,11 @@ describe('live page of npm start, in a browser', () => {
     await page.locator('#ack-dialog-result').filter({ hasText: 'Acknowledged' }).waitFor({ timeout: 20_000 });
     await page.click('#ack-cancel');
 
+    // The terminal says it too, as `run` does: one readable warning line per transition and refusal.
+    expect(demo.output()).toMatch(/WARNING alarm RAISED advisory structural: group \S+ von_mises_MPa [\d.]+ MPa \(limit [\d.]+ MPa\)/);
+    await demo.waitFor(new RegExp(`WARNING alarm ACKNOWLEDGED .*by duty-engineer-1 .*id ${alarmId!.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}`), 10_000);
+    expect(demo.output()).toMatch(/WARNING acknowledgement of \S+ by visitor-7 REFUSED/);
+
     const log = (await readFile(join(dir, 'var', 'alarms.ndjson'), 'utf8')).trim().split('\n').map((l) => JSON.parse(l));
     const acked = log.find((l) => l.type === 'transition' && l.message.transition === 'acknowledged' && l.message.alarm_id === alarmId);
     expect(acked?.message.acknowledged_by).toBe('duty-engineer-1');

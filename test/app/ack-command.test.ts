@@ -3,22 +3,12 @@ import { mkdtemp, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it, vi } from 'vitest';
-import { main } from '../../src/cli/main.js';
 import { EXIT } from '../../src/cli/errors.js';
 import { freePort } from '../support/servers.js';
 import { baseDoc, microGauge } from '../support/structures.js';
+import { runCli } from '../support/cli-in-process.js';
 
-async function run(args: string[]): Promise<{ code: number; err: string }> {
-  let err = '';
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => { err += String(s); return true; });
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation(() => true);
-  try {
-    return { code: await main(['node', 'strainward', 'ack', ...args]), err };
-  } finally {
-    e.mockRestore();
-    o.mockRestore();
-  }
-}
+const run = (args: string[]) => runCli(['ack', ...args]);
 
 async function files(alarms: unknown): Promise<string> {
   const dir = await mkdtemp(join(tmpdir(), 'sw-ack-cli-'));

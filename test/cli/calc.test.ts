@@ -1,21 +1,10 @@
 import { describe, expect, it, vi } from 'vitest';
-import { main } from '../../src/cli/main.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { CAUTION } from '../../src/model/caution.js';
+import { runCli } from '../support/cli-in-process.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '', err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s) => { out += String(s); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => { err += String(s); return true; });
-  try {
-    const code = await main(['node', 'strainward', ...args]);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
+const run = runCli;
 
 describe('strainward calc', () => {
   it('prints one JSON object with every intermediate, and the stress the readings were made from', async () => {

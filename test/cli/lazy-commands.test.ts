@@ -5,17 +5,10 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it, vi } from 'vitest';
-import { COMMANDS, main } from '../../src/cli/main.js';
+import { COMMANDS } from '../../src/cli/main.js';
+import { runCli } from '../support/cli-in-process.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string }> {
-  let out = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s) => { out += String(s); return true; });
-  try {
-    return { code: await main(['node', 'strainward', ...args]), out };
-  } finally {
-    o.mockRestore();
-  }
-}
+const run = runCli;
 
 describe('commands loaded when used', () => {
   it('main.ts imports no command module statically', () => {

@@ -4,21 +4,11 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it, vi } from 'vitest';
 import { EXIT } from '../../src/cli/errors.js';
-import { main } from '../../src/cli/main.js';
 import { freePort } from '../support/servers.js';
 import { baseDoc, microGauge } from '../support/structures.js';
+import { runCli } from '../support/cli-in-process.js';
 
-async function run(args: string[]): Promise<{ code: number; err: string }> {
-  let err = '';
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s) => { err += String(s); return true; });
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation(() => true);
-  try {
-    return { code: await main(['node', 'strainward', 'rezero', ...args]), err };
-  } finally {
-    e.mockRestore();
-    o.mockRestore();
-  }
-}
+const run = (args: string[]) => runCli(['rezero', ...args]);
 
 async function files(rezero: unknown): Promise<string> {
   const dir = await mkdtemp(join(tmpdir(), 'sw-rezero-cli-'));

@@ -12,12 +12,12 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import mqtt, { type MqttClient } from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { main } from '../../src/cli/main.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { startMosquitto, startVictoriaMetrics, type MosquittoServer, type VictoriaMetricsServer } from '../support/servers.js';
 import { filesUnder } from '../support/runtime-file.js';
 import { writeQuietRuntimeFile } from '../support/quiet-structure.js';
+import { runCli } from '../support/cli-in-process.js';
 
 const S = 'strainward/brannock-mere';
 
@@ -40,16 +40,8 @@ interface StatusJson {
 }
 
 async function statusJson(runtime: string): Promise<{ code: number; json: StatusJson }> {
-  let out = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation(() => true);
-  try {
-    const code = await main(['node', 'strainward', 'status', '-c', runtime, '--wait-ms', '300', '--json']);
-    return { code, json: JSON.parse(out) as StatusJson };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
+  const { code, out } = await runCli(['status', '-c', runtime, '--wait-ms', '300', '--json']);
+  return { code, json: JSON.parse(out) as StatusJson };
 }
 
 let dir = '';

@@ -10,7 +10,6 @@ import { join } from 'node:path';
 import mqtt, { type MqttClient } from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { startLive, type LiveProcessor } from '../../src/app/live.js';
-import { main } from '../../src/cli/main.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import type { CompiledStructure } from '../../src/config/compile.js';
@@ -18,6 +17,7 @@ import type { AlarmCounts } from '../../src/app/alarms-wiring.js';
 import { startReceiver, waitFor, type Received } from '../alarms/support/http-receiver.js';
 import { startMosquitto, type MosquittoServer } from '../support/servers.js';
 import { STEEL } from '../support/structures.js';
+import { runCli } from '../support/cli-in-process.js';
 
 const gauge = (id: string, logger: string) => ({
   id, kind: 'bonded_foil', channel: { logger, channel: 'ch1' }, signal: { unit: 'microstrain' },
@@ -96,16 +96,7 @@ function scanOnce(seq: number): void {
   }
 }
 
-async function ack(alarm: string, user: string): Promise<{ code: number; out: string }> {
-  let out = '';
-  const spy = vi.spyOn(process.stdout, 'write').mockImplementation((s) => { out += String(s); return true; });
-  try {
-    const code = await main(['node', 'strainward', 'ack', '--config', runtimePath, '--alarm', alarm, '--user', user, '--reason', 'checked on site']);
-    return { code, out };
-  } finally {
-    spy.mockRestore();
-  }
-}
+const ack = (alarm: string, user: string) => runCli(['ack', '--config', runtimePath, '--alarm', alarm, '--user', user, '--reason', 'checked on site']);
 
 beforeAll(async () => {
   [broker, receiver] = await Promise.all([startMosquitto(), startReceiver()]);

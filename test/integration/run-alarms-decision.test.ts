@@ -11,10 +11,10 @@ import { join, resolve } from 'node:path';
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { parse as parseYaml } from 'yaml';
-import { main } from '../../src/cli/main.js';
 import { CAUTION } from '../../src/model/caution.js';
 import { startMosquitto, type MosquittoServer } from '../support/servers.js';
 import { filesUnder } from '../support/runtime-file.js';
+import { runCli } from '../support/cli-in-process.js';
 
 let dir = '';
 let broker: MosquittoServer;
@@ -58,17 +58,7 @@ async function until(what: string, ok: () => boolean, ms = 20_000): Promise<void
   }
 }
 
-async function status(runtime: string): Promise<{ code: number; out: string }> {
-  let out = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation(() => true);
-  try {
-    return { code: await main(['node', 'strainward', 'status', '-c', runtime, '--wait-ms', '400']), out };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
+const status = (runtime: string) => runCli(['status', '-c', runtime, '--wait-ms', '400']);
 
 beforeAll(async () => {
   dir = await mkdtemp(join(tmpdir(), 'sw-alarms-decision-'));

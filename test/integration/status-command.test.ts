@@ -10,27 +10,15 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { startLive } from '../../src/app/live.js';
 import { loadRuntimeFile } from '../../src/config/load-runtime.js';
-import { main } from '../../src/cli/main.js';
 import mqtt from 'mqtt';
 import { readingsFromStress } from '../../src/mechanics/forward-model.js';
 import { freePort, startMosquitto } from '../support/servers.js';
 import { filesUnder, writeRuntimeFile } from '../support/runtime-file.js';
 import { writeQuietRuntimeFile } from '../support/quiet-structure.js';
+import { runCli } from '../support/cli-in-process.js';
 
 /** Runs the command, returning its exit code and what it printed on stdout and stderr. */
-async function status(runtime: string, extra: string[] = []): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c) => { err += String(c); return true; });
-  try {
-    const code = await main(['node', 'strainward', 'status', '-c', runtime, '--wait-ms', '400', ...extra]);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
+const status = (runtime: string, extra: string[] = []) => runCli(['status', '-c', runtime, '--wait-ms', '400', ...extra]);
 
 describe('strainward status', () => {
   let broker: Awaited<ReturnType<typeof startMosquitto>>;

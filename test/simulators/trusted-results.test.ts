@@ -184,7 +184,7 @@ describe('trusted results on replayed simulated days', () => {
     // sample, sqrt(1^2 + ... + 10^2) = 19.6, so 2.5 sd) stays below the rising limit (2.58 sd). There a
     // result leaves its bound when its own noise is 3 sd or more (independent of the residual: least
     // squares, common practice); with the rising flag's false rate at 1 %, about 0.2 such results are
-    // expected in 20 seeds (a simulation of the statistic alone). Measured: 1, at 0.9 s, 1.13 x bound.
+    // expected in 20 seeds (0.24, test/pipeline/residual-drift.test.ts). Measured: 1, at 0.9 s, 1.13 x bound.
     expect(outside.filter((o) => o.debondS === null || o.debondS > 1)).toEqual([]);
     expect(outside.length).toBeLessThanOrEqual(2);
     expect(Math.max(0, ...outside.map((o) => o.ratio))).toBeLessThan(1.3);

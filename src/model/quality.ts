@@ -17,6 +17,7 @@ export const QUALITY_FLAGS = [
   'reading_suspect', // such an excursion had not been judged when the wait for the next readings ran out
   'reading_flatline', // an element or companion channel has not changed over the flat-line window
   'residual_drift', // redundant group: the residual averaged over recent samples stands clear of its noise (pipeline/residual-drift.ts)
+  'residual_rising', // redundant group: that average is higher than noise alone makes it 99 % of the time, a drift not yet decided
 ] as const;
 
 export type QualityFlag = (typeof QUALITY_FLAGS)[number];

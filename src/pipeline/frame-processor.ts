@@ -10,7 +10,7 @@ import { toGroupResult } from '../results/group-result.js';
 import { groupTemperatureAt, groupWaitsForTemperature, type GroupTemperature } from './group-join.js';
 import { TemperatureHistory } from './temperature-history.js';
 import { CHANNEL_FLATLINE, CHANNEL_HELD, CHANNEL_SPIKE, ChannelScreen, type FrameScreen } from './channel-screen.js';
-import { newResidualDrift, residualDriftStep, type ResidualDrift } from './residual-drift.js';
+import { newResidualDrift, resetResidualDrift, residualDriftStep, type ResidualDrift } from './residual-drift.js';
 import { TemperatureScreen } from './temperature-screen.js';
 import { insertStep, modelAt, stepAt, type ZeroStep } from './zero-steps.js';
 
@@ -18,6 +18,7 @@ const BIT_READING_SPIKE = qualityBit('reading_spike');
 const BIT_READING_SUSPECT = qualityBit('reading_suspect');
 const BIT_READING_FLATLINE = qualityBit('reading_flatline');
 const BIT_RESIDUAL_DRIFT = qualityBit('residual_drift');
+const BIT_RESIDUAL_RISING = qualityBit('residual_rising');
 /** Samples that must not feed the residual average: an element missing, or a reading judged (or not yet cleared) a spike. */
 const NOT_FOR_DRIFT = BIT_ELEMENT_MISSING | BIT_ELEMENT_OUT_OF_RANGE | BIT_UNDERDETERMINED | BIT_READING_SPIKE | BIT_READING_SUSPECT;
 
@@ -134,7 +135,7 @@ export class FrameProcessor<M> {
       this.groups.set(g.config.id, {
         group: g, raw: new Float64Array(g.model.m), out: createGroupOutput(g.model.m),
         temperature: { valueC: Number.NaN, ageS: Number.NaN, stale: false },
-        drift: g.model.m > g.model.n ? newResidualDrift(g.model.m) : null, evaluated: 0, withheld: 0,
+        drift: g.model.m > g.model.n ? newResidualDrift(g.model.m, g.model.m - g.model.n) : null, evaluated: 0, withheld: 0,
         zeroSteps: [], lastModel: g.model, readingsTimeMs: Number.NaN, readingsArrivalMs: Number.NaN, companionRaw: Number.NaN, readingsFlags: 0,
       });
     }
@@ -302,12 +303,13 @@ export class FrameProcessor<M> {
       // computed with this one (a frame, not the request, so live and replay restart it alike).
       if (model !== rt.lastModel) {
         rt.lastModel = model;
-        if (rt.drift !== null) rt.drift = newResidualDrift(g.model.m);
+        if (rt.drift !== null) resetResidualDrift(rt.drift);
       }
       evaluateGroup(model, rt.raw, t.valueC, rt.companionRaw, rt.out);
       if (rt.drift !== null) {
         if (((rt.out.flags | extra) & NOT_FOR_DRIFT) === 0) residualDriftStep(rt.drift, rt.out.elementResidualMicro, g.model.m);
         if (rt.drift.drifting) extra |= BIT_RESIDUAL_DRIFT;
+        else if (rt.drift.rising) extra |= BIT_RESIDUAL_RISING;
       }
       rt.readingsFlags = rt.out.flags | extra;
       rt.evaluated++;

@@ -6,32 +6,13 @@ import { createGroupOutput, type GroupModel } from '../../src/mechanics/group-mo
 import { rotationFromAngles, strainRotation6, stressRotation6 } from '../../src/mechanics/rotation.js';
 import { invertSquare, orthotropicCompliance, planeStressStiffness } from '../../src/mechanics/stiffness.js';
 import { baseDoc, compileOrThrow, microGauge } from '../support/structures.js';
+import { ORTHO, planeModel, PLY, PLY_ALPHA, STIFFNESS_CASES, totalGauge } from '../reference/stiffness-cases.js';
 
-/**
- * Orthotropic materials oriented per group. Constants of a unidirectional carbon/epoxy-like ply,
- * picked as round test numbers (from memory, of the order a composites text tabulates); they are
- * inputs of identities here, not check values.
- */
-const PLY = { E1: 140000, E2: 10000, E3: 10000, nu12: 0.3, nu13: 0.3, nu23: 0.45, G12: 5000, G13: 5000, G23: 3448 };
-const ALPHA = [-0.5e-6, 30e-6, 30e-6];
-const ORTHO = {
-  id: 'ply', kind: 'orthotropic', E1_MPa: PLY.E1, E2_MPa: PLY.E2, E3_MPa: PLY.E3, nu12: PLY.nu12, nu13: PLY.nu13, nu23: PLY.nu23,
-  G12_MPa: PLY.G12, G13_MPa: PLY.G13, G23_MPa: PLY.G23, alpha_per_degC: ALPHA,
-};
+// The ply, its plane model and the hand-written Q-bar and expansion cases are in
+// test/reference/stiffness-cases.ts (shared with `npm run check:references`).
+const ALPHA = PLY_ALPHA;
 const DEG = Math.PI / 180;
 const T0 = 20;
-/** Gauges that read total strain (a zero thermal-output curve on a zero-expansion reference): the host's expansion shows. */
-const totalGauge = (id: string, ch: string) => microGauge(id, ch, { thermal_output: { coefficients_micro: [0], characterised_on_alpha_per_degC: 0 } });
-
-function planeModel(material: Record<string, unknown>, angleDeg?: number): GroupModel {
-  const angles = [0, 45, 90, 135];
-  const doc = baseDoc([{
-    id: 'p', kind: 'plane_rosette', material: material.id, zone: 'z', location: 'bench',
-    elements: angles.map((a, i) => ({ gauge: `g${i}`, angle_deg: a })),
-    ...(angleDeg === undefined ? {} : { material_angle_deg: angleDeg }),
-  }], angles.map((_, i) => totalGauge(`g${i}`, `c${i}`)), { materials: [material] });
-  return compileOrThrow(doc).groups[0].model;
-}
 
 const SOLID_DIRS = [[1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, 0], [0, 1, 1], [1, 0, 1], [1, -1, 0.5]];
 function solidModel(material: Record<string, unknown>, rotation?: Record<string, number>): GroupModel {
@@ -97,45 +78,9 @@ describe('plane groups: material_angle_deg', () => {
   const q = planeStressStiffness(orthotropicCompliance(PLY));
   const [Q11, Q12, Q22, Q66] = [q[0], q[1], q[4], q[8]];
 
-  for (const theta of [30, -55, 72.5]) {
-    it(`stiffness at ${theta} degrees follows the Q-bar formulas`, () => {
-      // Transformed reduced stiffness of a lamina at angle theta from x to the 1 axis
-      // (R. M. Jones, Mechanics of Composite Materials, ch. 2; from memory):
-      //   Q11b = Q11 c^4 + 2 (Q12 + 2 Q66) s^2 c^2 + Q22 s^4
-      //   Q12b = (Q11 + Q22 - 4 Q66) s^2 c^2 + Q12 (s^4 + c^4)
-      //   Q22b = Q11 s^4 + 2 (Q12 + 2 Q66) s^2 c^2 + Q22 c^4
-      //   Q16b = (Q11 - Q12 - 2 Q66) s c^3 + (Q12 - Q22 + 2 Q66) s^3 c
-      //   Q26b = (Q11 - Q12 - 2 Q66) s^3 c + (Q12 - Q22 + 2 Q66) s c^3
-      //   Q66b = (Q11 + Q22 - 2 Q12 - 2 Q66) s^2 c^2 + Q66 (s^4 + c^4)
-      const c = Math.cos(theta * DEG), s = Math.sin(theta * DEG);
-      const expected = {
-        11: Q11 * c ** 4 + 2 * (Q12 + 2 * Q66) * s * s * c * c + Q22 * s ** 4,
-        12: (Q11 + Q22 - 4 * Q66) * s * s * c * c + Q12 * (s ** 4 + c ** 4),
-        22: Q11 * s ** 4 + 2 * (Q12 + 2 * Q66) * s * s * c * c + Q22 * c ** 4,
-        16: (Q11 - Q12 - 2 * Q66) * s * c ** 3 + (Q12 - Q22 + 2 * Q66) * s ** 3 * c,
-        26: (Q11 - Q12 - 2 * Q66) * s ** 3 * c + (Q12 - Q22 + 2 * Q66) * s * c ** 3,
-        66: (Q11 + Q22 - 2 * Q12 - 2 * Q66) * s * s * c * c + Q66 * (s ** 4 + c ** 4),
-      };
-      const k = planeModel(ORTHO, theta).stiffness;
-      const tol = 1e-9 * Q11;
-      expect(Math.abs(k[0] - expected[11])).toBeLessThan(tol);
-      expect(Math.abs(k[1] - expected[12])).toBeLessThan(tol);
-      expect(Math.abs(k[3] - expected[12])).toBeLessThan(tol);
-      expect(Math.abs(k[4] - expected[22])).toBeLessThan(tol);
-      expect(Math.abs(k[2] - expected[16])).toBeLessThan(tol);
-      expect(Math.abs(k[5] - expected[26])).toBeLessThan(tol);
-      expect(Math.abs(k[8] - expected[66])).toBeLessThan(tol);
-    });
-
-    it(`expansion at ${theta} degrees gains a shear term`, () => {
-      // Transformed expansion (Jones, ch. 4; from memory): alpha_x = a1 c^2 + a2 s^2,
-      // alpha_y = a1 s^2 + a2 c^2, alpha_xy (engineering) = 2 (a1 - a2) s c.
-      const c = Math.cos(theta * DEG), s = Math.sin(theta * DEG);
-      const [a1, a2] = ALPHA;
-      const hostAlpha = planeModel(ORTHO, theta).hostAlpha;
-      expect(hostAlpha[0]).toBeCloseTo(a1 * c * c + a2 * s * s, 18);
-      expect(hostAlpha[1]).toBeCloseTo(a1 * s * s + a2 * c * c, 18);
-      expect(hostAlpha[2]).toBeCloseTo(2 * (a1 - a2) * s * c, 18);
+  for (const c of STIFFNESS_CASES.filter((x) => x.quantity !== 'stiffness (MPa)')) {
+    it(`${c.label} (${c.source})`, () => {
+      expect(Math.abs(c.actual() - c.expected)).toBeLessThan(c.tolerance);
     });
   }
 

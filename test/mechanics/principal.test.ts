@@ -1,7 +1,8 @@
 import fc from 'fast-check';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { principal2, principal3, tresca3, vonMises2, vonMises6 } from '../../src/mechanics/principal.js';
+import { principal2, principal3, vonMises2, vonMises6 } from '../../src/mechanics/principal.js';
+import { STRESS_CASES } from '../reference/stress-cases.js';
 
 const stress = fc.float({ min: -400, max: 400, noNaN: true, noDefaultInfinity: true });
 
@@ -39,21 +40,10 @@ describe('principal values', () => {
     }), { numRuns: 200 });
   });
 
-  it('von Mises of uniaxial stress is its magnitude and of pure shear sqrt(3) tau', () => {
-    // von Mises equivalent stress, sqrt(((s1-s2)^2 + (s2-s3)^2 + (s3-s1)^2) / 2), in plane stress
-    // sqrt(sx^2 - sx sy + sy^2 + 3 txy^2) (common practice; any strength-of-materials text).
-    expect(vonMises6(Float64Array.of(250, 0, 0, 0, 0, 0))).toBeCloseTo(250, 12);
-    expect(vonMises2(0, 0, 100)).toBeCloseTo(100 * Math.sqrt(3), 12);
-    expect(vonMises2(120, -40, 30)).toBeCloseTo(Math.sqrt(120 * 120 + 120 * 40 + 40 * 40 + 3 * 900), 12);
-    // Tresca equivalent stress = largest difference of principal stresses (common practice).
-    expect(tresca3(100, 0, -50)).toBe(150);
-  });
-
-  it('plane principal angle points at s1', () => {
-    const out = principal2(0, 0, 100, new Float64Array(3));
-    expect(out[0]).toBeCloseTo(100, 12);
-    expect(out[2]).toBeCloseTo(45, 12);
-    const out2 = principal2(-50, 80, 0, new Float64Array(3));
-    expect(out2[2]).toBeCloseTo(90, 12);
-  });
+  // Hand-written cases (test/reference/stress-cases.ts, shared with `npm run check:references`).
+  for (const c of STRESS_CASES.filter((x) => /von Mises|Tresca|principal/.test(x.quantity) && !/same-sign/.test(x.label))) {
+    it(`${c.quantity}: ${c.label} (${c.source})`, () => {
+      expect(Math.abs(c.actual() - c.expected)).toBeLessThan(c.tolerance);
+    });
+  }
 });

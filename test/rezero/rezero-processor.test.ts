@@ -103,16 +103,17 @@ describe('rezero in the frame processor', () => {
     const s = compileOrThrow({ ...planeRosetteDoc([0, 45, 90, 135]), rezero: { allowed: [{ user: 'eng-1', groups: ['r1'] }] } });
     // A steady 20 microstrain offset on the fourth element over a small alternating noise: the averaged residual drifts.
     const reading = (k: number) => Object.fromEntries([0, 1, 2, 3].map((i) => [`ch${i}`, ((k * 7 + i * 3) % 5) - 2 + (i === 3 ? 20 : 0)]));
-    const frames = Array.from({ length: 60 }, (_, k) => frame('lg', 1_000 + 100 * k, reading(k)));
+    // The detector judges from its 61st sample (RESIDUAL_JUDGE_AFTER): 70 frames before the rezero, 70 after.
+    const frames = Array.from({ length: 140 }, (_, k) => frame('lg', 1_000 + 100 * k, reading(k)));
     const drifting = (o: { results: Array<{ flags: readonly string[] }> }) => o.results[0].flags.includes('residual_drift');
     const live = new FrameProcessor<string>(s);
-    const liveOut = frames.slice(0, 50).flatMap((f) => live.onFrame(f, 'm', f.arrivalMs));
-    expect(drifting(liveOut[49])).toBe(true);
-    const d = decideRezero(s, s.config.rezero!, request({ groupId: 'r1', atMs: 6_000 }), live.latestReadings('r1'), null);
+    const liveOut = frames.slice(0, 70).flatMap((f) => live.onFrame(f, 'm', f.arrivalMs));
+    expect(drifting(liveOut[69])).toBe(true);
+    const d = decideRezero(s, s.config.rezero!, request({ groupId: 'r1', atMs: 8_000 }), live.latestReadings('r1'), null);
     if (!d.ok) throw new Error(d.refusal.reason);
     applyRezeroRecord(live as FrameProcessor<unknown>, s, d.record);
-    liveOut.push(...frames.slice(50).flatMap((f) => live.onFrame(f, 'm', f.arrivalMs)));
-    expect(liveOut.slice(50).some(drifting)).toBe(false);
+    liveOut.push(...frames.slice(70).flatMap((f) => live.onFrame(f, 'm', f.arrivalMs)));
+    expect(liveOut.slice(70).some(drifting)).toBe(false);
     const replayed = new FrameProcessor<string>(s);
     applyRezeroRecord(replayed as FrameProcessor<unknown>, s, d.record);
     expect(frames.flatMap((f) => replayed.onFrame(f, 'm', f.arrivalMs)).map((o) => o.results)).toEqual(liveOut.map((o) => o.results));

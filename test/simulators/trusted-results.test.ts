@@ -81,13 +81,20 @@ async function checkSeed(seed: number) {
   });
   const byKey = new Map(summary.collected.map((r) => [`${r.groupId}@${r.timeMs}`, r]));
   const outside: Outside[] = [];
-  let checked = 0, flagged = 0, worstRatio = 0, strayDrift = 0;
+  let checked = 0, flagged = 0, worstRatio = 0, strayDrift = 0, strayRising = 0, redundantClean = 0;
   const flagCounts = new Map<string, number>();
   for (const scan of scans) {
     for (const t of scan.truth) {
       const r = byKey.get(`${t.group}@${t.logger_ts_ms}`);
       expect(r, `${t.group} at ${t.logger_ts_ms}`).toBeDefined();
-      if (r!.flags.includes('residual_drift') && !t.faults.some((f) => f.startsWith('debond'))) strayDrift++;
+      const debonding = t.faults.some((f) => f.startsWith('debond'));
+      if (r!.flags.includes('residual_drift') && !debonding) strayDrift++;
+      // Results of redundant groups without a debonding element: what noise alone flags residual_rising.
+      const g0 = s.groupsById.get(t.group)!;
+      if (g0.model.m > g0.model.n && !debonding) {
+        redundantClean++;
+        if (r!.flags.includes('residual_rising')) strayRising++;
+      }
       if (r!.flags.length > 0) {
         flagged++;
         for (const f of r!.flags) flagCounts.set(f, (flagCounts.get(f) ?? 0) + 1);
@@ -129,12 +136,12 @@ async function checkSeed(seed: number) {
   const peakExcessMPa = peaks.maxVonMises!.value - trueVm;
   const spikeListedApart = peaks.flagged.some((f) => f.kind === 'maxVonMises' && f.flags.includes('reading_spike'));
   const spikeAlarms = summary.transitions.filter((x) => x.kind === 'raised' && x.alarm.ruleId === 'spike');
-  return { checked, flagged, flagCounts, peakExcessMPa, spikeListedApart, outside, worstRatio, spikeAlarms, strayDrift, faultLog: sim.faultLog };
+  return { checked, flagged, flagCounts, peakExcessMPa, spikeListedApart, outside, worstRatio, spikeAlarms, strayDrift, strayRising, redundantClean, faultLog: sim.faultLog };
 }
 
 describe('trusted results on replayed simulated days', () => {
-  it(`${SEEDS} seeds of ${DURATION_S} s with every fault kind: every result without a flag within its noise bound but a debonding gauge's first seconds`, async () => {
-    let checked = 0, flagged = 0, worstRatio = 0, strayDrift = 0, worstPeakExcess = 0, spikesNotListed = 0;
+  it(`${SEEDS} seeds of ${DURATION_S} s with every fault kind: every result without a flag within its noise bound, but where a drift is below any test's reach`, async () => {
+    let checked = 0, flagged = 0, worstRatio = 0, strayDrift = 0, strayRising = 0, redundantClean = 0, worstPeakExcess = 0, spikesNotListed = 0;
     const flagCounts = new Map<string, number>();
     const outside: Outside[] = [];
     const strayAlarms: string[] = [];
@@ -144,6 +151,8 @@ describe('trusted results on replayed simulated days', () => {
       flagged += r.flagged;
       worstRatio = Math.max(worstRatio, r.worstRatio);
       strayDrift += r.strayDrift;
+      strayRising += r.strayRising;
+      redundantClean += r.redundantClean;
       worstPeakExcess = Math.max(worstPeakExcess, Math.abs(r.peakExcessMPa));
       if (!r.spikeListedApart) spikesNotListed++;
       for (const [f, n] of r.flagCounts) flagCounts.set(f, (flagCounts.get(f) ?? 0) + n);
@@ -156,6 +165,7 @@ describe('trusted results on replayed simulated days', () => {
       }
     }
     console.log(`trusted results: ${checked} unflagged checked, ${flagged} flagged, ${outside.length} outside the noise bound (worst ${worstRatio.toFixed(2)} x bound); residual_drift outside a debonding gauge: ${strayDrift}; spike alarms off the spiked channel: ${strayAlarms.length}`);
+    console.log(`  residual_rising on redundant-group results without a debonding element: ${strayRising} of ${redundantClean} (${(100 * strayRising / redundantClean).toFixed(2)} %)`);
     console.log(`  report peaks of the spiked rosette: within ${worstPeakExcess.toFixed(2)} MPa of the true max von Mises; spike listed apart on ${SEEDS - spikesNotListed} of ${SEEDS} seeds`);
     console.log(`  flags of the flagged results: ${[...flagCounts].map(([f, n]) => `${f} ${n}`).join(', ')}`);
     const classes = new Map<string, { n: number; worstMPa: number; seeds: Set<number>; first: number; last: number }>();
@@ -167,16 +177,22 @@ describe('trusted results on replayed simulated days', () => {
       classes.set(k, c);
     }
     for (const [k, c] of classes) console.log(`  ${k}: ${c.n} results, ${c.seeds.size} seeds, worst error ${c.worstMPa.toFixed(2)} MPa, from ${c.first} s to ${c.last} s`);
-    // Every fault but a debonding gauge is flagged wherever it takes a result out of its bound.
-    expect(outside.filter((o) => o.debondS === null)).toEqual([]);
-    // A debonding gauge is invisible until its averaged residual stands clear of the noise
-    // (src/pipeline/residual-drift.ts): the README states the size, checked here. At this scenario's
-    // drift of 2.4 microstrain/s that is the first 3 s of the drift, and at most 2.5 MPa (1.34 measured).
-    const debond = outside.filter((o) => o.debondS !== null);
-    expect(Math.max(0, ...debond.map((o) => o.debondS!))).toBeLessThan(3);
-    expect(Math.max(0, ...debond.map((o) => o.errorMPa))).toBeLessThan(2.5);
-    expect(debond.length).toBeLessThan(checked * 1e-3);
+    // Every fault is flagged wherever it takes a result out of its bound; a debonding gauge too, by
+    // residual_rising and then residual_drift (src/pipeline/residual-drift.ts), but for its first
+    // second: 10 samples, 2.4 microstrain on the element, a bias of at most 2.1 sd on the stress, where
+    // even a test knowing the drift's start and rate (a matched filter: along the residual 0.126 sd per
+    // sample, sqrt(1^2 + ... + 10^2) = 19.6, so 2.5 sd) stays below the rising limit (2.58 sd). There a
+    // result leaves its bound when its own noise is 3 sd or more (independent of the residual: least
+    // squares, common practice); with the rising flag's false rate at 1 %, about 0.2 such results are
+    // expected in 20 seeds (0.24, test/pipeline/residual-drift.test.ts). Measured: 1, at 0.9 s, 1.13 x bound.
+    expect(outside.filter((o) => o.debondS === null || o.debondS > 1)).toEqual([]);
+    expect(outside.length).toBeLessThanOrEqual(2);
+    expect(Math.max(0, ...outside.map((o) => o.ratio))).toBeLessThan(1.3);
     expect(strayDrift).toBe(0);
+    // Noise alone passes the rising limit on about 1 % of judged samples (the detector's chi-square
+    // quantile; its rate is checked on 2 million samples in test/pipeline/residual-drift.test.ts):
+    // here 2 % of the redundant results without a debonding element at most.
+    expect(strayRising).toBeLessThan(0.02 * redundantClean);
     // A spike of 0.25 mV/V makes about 100 MPa; 2 MPa is a few times the stress noise (measured 0.55 MPa worst).
     expect(worstPeakExcess).toBeLessThan(2);
     expect(spikesNotListed).toBe(0);

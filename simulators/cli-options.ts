@@ -44,8 +44,13 @@ export const FaultTimesSchema = z.string().transform((s, ctx): FaultTimes => {
 });
 
 /** Options of simulators/brannock-mere.ts after commander (camel-cased, strings); zod checks and converts them. */
+/** `--broker`: one broker URL, or a comma list of the nodes of one clustered broker. */
+export const BrokerListSchema = z.string().transform((s) => s.split(',').map((u) => u.trim()).filter((u) => u !== ''))
+  .pipe(z.array(z.url({ protocol: /^mqtts?$|^wss?$/ })).min(1, 'expected a broker URL or a comma list of them'));
+
 export const CliOptionsSchema = z.strictObject({
-  config: z.string().min(1),
+  /** One structure file or several (repeated `--config`), each published as its own structure. */
+  config: z.union([z.string().min(1).transform((c) => [c]), z.array(z.string().min(1)).min(1)]),
   seed: z.coerce.number().int(),
   /** ISO 8601 with zone, or `now` (whole seconds) for a live run whose logger clocks must agree with the processor's. */
   start: z.union([z.literal('now'), z.iso.datetime({ offset: true })]).transform((s) => (s === 'now' ? Math.ceil(Date.now() / 1000) * 1000 : Date.parse(s))),
@@ -57,15 +62,23 @@ export const CliOptionsSchema = z.strictObject({
   heavyAtS: SecondsListSchema.optional(),
   faultAt: FaultTimesSchema.optional(),
   noise: z.boolean(),
-  broker: z.url({ protocol: /^mqtts?$|^wss?$/ }).optional(),
+  broker: BrokerListSchema.optional(),
+  /** How long one connection attempt may take (a clustered broker taking over a lost node's sessions needs seconds). */
+  connectTimeoutMs: z.coerce.number().int().min(100).default(10_000),
+  clientId: z.string().min(1).default('strainward-simulator'),
+  /** NDJSON of every publish the broker confirmed (PUBACK): `{structure, logger, seq, logger_ts_ms}`. */
+  publishedLog: z.string().min(1).optional(),
   /** Publishing to a broker beyond this machine needs saying so: see `remoteBrokerProblem`. */
   allowRemoteBroker: z.boolean().default(false),
   captureDir: z.string().min(1).optional(),
   messages: z.boolean(),
   out: z.string().min(1),
 }).superRefine((o, ctx) => {
-  const problem = o.broker === undefined ? null : remoteBrokerProblem(o.broker, o.allowRemoteBroker);
-  if (problem !== null) ctx.addIssue({ code: 'custom', path: ['broker'], message: problem });
+  for (const url of o.broker ?? []) {
+    const problem = remoteBrokerProblem(url, o.allowRemoteBroker);
+    if (problem !== null) ctx.addIssue({ code: 'custom', path: ['broker'], message: problem });
+  }
+  if (o.publishedLog !== undefined && o.broker === undefined) ctx.addIssue({ code: 'custom', path: ['publishedLog'], message: 'records what a broker confirmed: give --broker too' });
 });
 export type CliOptions = z.infer<typeof CliOptionsSchema>;
 

@@ -1,7 +1,6 @@
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import mqtt from 'mqtt';
 import { CaptureWriter } from '../src/adapters/capture/capture-writer.js';
 import type { RawMessage } from '../src/model/raw-message.js';
 import type { Simulation, SimScan } from './run.js';
@@ -37,16 +36,7 @@ export async function captureSink(dir: string, batch = 500): Promise<ScanSink> {
   };
 }
 
-/** Publishes each scan on its topic with QoS 1 (resolves on PUBACK): the simulator plays the loggers. */
-export async function mqttSink(url: string, clientId = 'strainward-simulator'): Promise<ScanSink> {
-  const client = await mqtt.connectAsync(url, { clientId, clean: true, reconnectPeriod: 1000 });
-  return {
-    async send(scan) {
-      await client.publishAsync(scan.topic, scan.payload, { qos: 1 });
-    },
-    close: () => client.endAsync(),
-  };
-}
+export { mqttSink } from './mqtt-sink.js';
 
 /** One JSON object per line, on a write stream; resolves on drain when the stream is full. */
 export class NdjsonWriter {
@@ -80,37 +70,71 @@ export interface RunOptions {
   /** Wall clock (epoch ms) and sleep: injected so the pacing can be tested. */
   now: () => number;
   sleep: (ms: number) => Promise<void>;
+  /** Checked before each scan: once true, the run ends there (sinks closed, truth written so far). */
+  stopped?: () => boolean;
 }
 
 export interface RunSummary { scans: number; truthLines: number; wallMs: number }
+
+/** One structure's simulation in a run of several: its scenario (one start for all) and its own output folder. */
+export interface StructureRun { sim: Simulation; scn: Scenario; outDir: string }
 
 /**
  * Runs a simulation into its sinks, writing the truth and the fault log beside. When paced, each
  * scan waits until its arrival time (scaled by speed) has come on the wall clock.
  */
-export async function runSimulation(sim: Simulation, scn: Scenario, o: RunOptions): Promise<RunSummary> {
-  await mkdir(o.outDir, { recursive: true });
-  await writeFile(join(o.outDir, 'scenario.json'), JSON.stringify(scn, null, 1) + '\n');
-  await writeFile(join(o.outDir, 'fault-log.json'), JSON.stringify(sim.faultLog, null, 1) + '\n');
-  const truth = new NdjsonWriter(join(o.outDir, 'truth.ndjson'));
+export function runSimulation(sim: Simulation, scn: Scenario, o: RunOptions): Promise<RunSummary> {
+  return runSimulations([{ sim, scn, outDir: o.outDir }], o);
+}
+
+/**
+ * Several structures' simulations as one run: their scans merged in arrival order (ties: the
+ * order of `runs`), paced from the first run's start, into the same sinks; each structure's truth,
+ * scenario and fault log in its own `outDir`.
+ */
+export async function runSimulations(runs: readonly StructureRun[], o: RunOptions): Promise<RunSummary> {
+  const truths: NdjsonWriter[] = [];
+  for (const r of runs) {
+    await mkdir(r.outDir, { recursive: true });
+    await writeFile(join(r.outDir, 'scenario.json'), JSON.stringify(r.scn, null, 1) + '\n');
+    await writeFile(join(r.outDir, 'fault-log.json'), JSON.stringify(r.sim.faultLog, null, 1) + '\n');
+    truths.push(new NdjsonWriter(join(r.outDir, 'truth.ndjson')));
+  }
+  const startMs = runs[0].scn.start_ms;
   const wallStart = o.now();
   let scans = 0;
   let truthLines = 0;
   try {
-    for (const scan of sim.scans()) {
+    for (const [i, scan] of mergeByArrival(runs.map((r) => r.sim.scans()))) {
+      if (o.stopped?.()) break;
       if (o.speed > 0) {
-        const due = wallStart + (scan.arrivalMs - scn.start_ms) / o.speed;
+        const due = wallStart + (scan.arrivalMs - startMs) / o.speed;
         const wait = due - o.now();
         if (wait > 1) await o.sleep(wait);
       }
       for (const s of o.sinks) await s.send(scan);
-      for (const line of scan.truth) await truth.write(line);
+      for (const line of scan.truth) await truths[i].write(line);
       scans++;
       truthLines += scan.truth.length;
     }
   } finally {
-    await truth.close();
+    for (const t of truths) await t.close();
     for (const s of o.sinks) await s.close();
   }
   return { scans, truthLines, wallMs: o.now() - wallStart };
+}
+
+/** The scans of several runs in arrival order, each with its run's index (ties: the lower index first). Lazy. */
+function* mergeByArrival(runs: Array<Generator<SimScan>>): Generator<[number, SimScan]> {
+  const heads = runs.map((g) => g.next());
+  for (;;) {
+    let best = -1;
+    for (let i = 0; i < heads.length; i++) {
+      const h = heads[i];
+      if (!h.done && (best < 0 || h.value.arrivalMs < (heads[best].value as SimScan).arrivalMs)) best = i;
+    }
+    if (best < 0) return;
+    yield [best, heads[best].value as SimScan];
+    heads[best] = runs[best].next();
+  }
 }

@@ -26,6 +26,7 @@ export interface TruthLine {
 
 /** One logger scan as sent, with the truth behind it. */
 export interface SimScan {
+  structureId: string;
   loggerId: string;
   topic: string;
   trueMs: number;
@@ -134,7 +135,7 @@ function* runScans(structure: CompiledStructure, scn: Scenario, plan: RunPlan, l
     }
     // `synthetic`: the processor warns about simulated readings (once per logger) and lists them in its presence.
     const payload = JSON.stringify({ ts: loggerMs, seq, values, synthetic: true });
-    yield { loggerId: st.plan.id, topic: st.topic, trueMs, loggerMs, arrivalMs: trueMs + scn.latency_ms, seq, values, payload, truth };
+    yield { structureId: structure.structureId, loggerId: st.plan.id, topic: st.topic, trueMs, loggerMs, arrivalMs: trueMs + scn.latency_ms, seq, values, payload, truth };
   }
 }
 

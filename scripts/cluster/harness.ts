@@ -1,8 +1,8 @@
 /**
  * A whole cluster on loopback for the takeover test and `bench:scale`: etcd members, one broker,
  * VictoriaMetrics, several copies of the invented deck (each its own structure id, each one work
- * unit), and N processors `strainward run --cluster` as processes of their own. Every server is a
- * real one from Debian; nothing listens beyond 127.0.0.1.
+ * unit), N processors `strainward run --cluster` and the simulator publishing every copy, each a
+ * process of its own. Every server is a real one from Debian; nothing listens beyond 127.0.0.1.
  */
 import { mkdir, mkdtemp, readFile, readdir, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -17,8 +17,8 @@ import { freePort, startVictoriaMetrics, type VictoriaMetricsServer } from '../.
 import { startNatsCluster, startVmagent, type NatsCluster } from '../../test/support/cluster-servers.js';
 import { startPersistentBroker, type PersistentBroker } from '../faults/broker.js';
 import { ProcessorProcess } from '../faults/processor.js';
-import { ScanPublisher, STRAIN_LOGGER } from '../faults/publisher.js';
-import { countScenario, type ScenarioFigures } from '../faults/count.js';
+import { countScenario } from '../faults/count.js';
+import { SimulatorProcess, type PublishedScans, type SimulatorOptions } from './simulator-process.js';
 
 export const CLUSTER_NAME = 'loopback';
 const MAX_HELD_ACKS = 256;
@@ -40,16 +40,24 @@ export interface Harness {
   killVm(i: number): void;
   restartVm(i: number): Promise<void>;
   structures: CompiledStructure[];
+  /** The copies' structure files, in `structures`' order. */
+  structureFiles: string[];
+  /** Every node of the broker. */
+  brokerUrls: string[];
   units: string[];
   processors: ProcessorProcess[];
-  publishers: ScanPublisher[];
   logFiles: string[];
+  /** The simulator publishing every structure (stopped and killed by `close` if still running). */
+  startSimulator(o?: Omit<SimulatorOptions, 'structureFiles' | 'brokers' | 'dir'>): SimulatorProcess;
   holders(): Promise<Map<string, HolderRecord | null>>;
   /** Waits until every unit has a holder (at most `timeoutMs`); returns the holders. */
   allHeld(timeoutMs?: number): Promise<Map<string, HolderRecord | null>>;
-  count(structureIndex: number, from: number, to: number, vmIndex?: number): Promise<ScenarioFigures>;
+  /** What one database node holds of every scan of one structure the broker confirmed, over all its loggers. */
+  count(structureIndex: number, published: PublishedScans, vmIndex?: number): Promise<StructureFigures>;
   close(): Promise<void>;
 }
+
+export interface StructureFigures { structure: string; published: number; received: number; stored: number; duplicated: number; lost: number }
 
 export interface HarnessOptions {
   processors: number;
@@ -97,6 +105,7 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
     }
     const deck = await readFile(resolve('config/brannock-mere.yaml'), 'utf8');
     const structures: CompiledStructure[] = [];
+    const structureFiles: string[] = [];
     const entries: string[] = [];
     for (let i = 0; i < o.structures; i++) {
       const id = `deck-${String.fromCharCode(97 + i)}`;
@@ -104,6 +113,7 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
       // The invented deck under another id: the same instruments, another structure.
       await writeFile(file, deck.replace(/^  id: brannock-mere$/m, `  id: ${id}`));
       structures.push(await loadStructureFile(file));
+      structureFiles.push(file);
       const run = join(root, `${id}.run.yaml`);
       await writeFile(run, [
         'schema_version: 1',
@@ -136,22 +146,23 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
       const p = new ProcessorProcess(clusterFile, logFile, process.env, ['run', '--cluster', clusterFile, '--processor-id', `p${i + 1}`, '--log-format', 'json', '--status-every', '0']);
       await p.start();
       processors.push(p);
-      cleanups.push(() => p.close());
+      // An orderly stop first, bounded: a test that failed half way leaves them running.
+      cleanups.push(async () => { await Promise.race([p.stop(), new Promise((r) => setTimeout(r, 10_000))]); await p.kill(); await p.close(); });
     }
-    const publishers: ScanPublisher[] = [];
-    for (const s of structures) {
-      const pub = await ScanPublisher.connect(brokerUrl, s, `loggers-${s.structureId}`, nats?.mqttUrls);
-      publishers.push(pub);
-      cleanups.push(() => pub.close());
-    }
+    const brokerUrls = nats?.mqttUrls ?? [brokerUrl];
     const units = structures.map((s) => `${s.structureId}/${s.structureId}`);
     const client = new Etcd3({ hosts: etcd.endpoints, dialTimeout: 2000 });
     cleanups.push(async () => client.close());
     const holders = () => readHolders(client, clusterPrefix(CLUSTER_NAME), units);
     return {
-      root, clusterFile, etcd, broker, nats, vms, structures,
+      root, clusterFile, etcd, broker, nats, vms, structures, structureFiles, brokerUrls,
+      startSimulator(so = {}) {
+        const sim = SimulatorProcess.start({ ...so, structureFiles, brokers: brokerUrls, dir: root });
+        cleanups.push(() => sim.close());
+        return sim;
+      },
       killVm(i) { process.kill(vms[i].pid, 'SIGKILL'); },
-      async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port, extraArgs: VM_ARGS }); }, units, processors, publishers, logFiles, holders,
+      async restartVm(i) { vms[i] = await startVictoriaMetrics({ dataDir: vms[i].dataDir, port: vms[i].port, extraArgs: VM_ARGS }); }, units, processors, logFiles, holders,
       async allHeld(timeoutMs = 30_000) {
         const deadline = Date.now() + timeoutMs;
         for (;;) {
@@ -161,10 +172,16 @@ export async function startHarness(o: HarnessOptions): Promise<Harness> {
           await new Promise((r) => setTimeout(r, 50));
         }
       },
-      count: (i, from, to, vmIndex = 0) => {
+      async count(i, published, vmIndex = 0) {
         const s = structures[i];
-        const groups = (s.groupsByLogger.get(STRAIN_LOGGER) ?? []).map((g) => g.config.id);
-        return countScenario(vms[vmIndex], s.structureId, publishers[i].published, from, to, s.structureId, STRAIN_LOGGER, groups);
+        const f: StructureFigures = { structure: s.structureId, published: 0, received: 0, stored: 0, duplicated: 0, lost: 0 };
+        // Every logger's scans: in sw_raw once each, and in sw_result once per group the logger carries.
+        for (const [logger, bySeq] of published.get(s.structureId) ?? []) {
+          const groups = (s.groupsByLogger.get(logger) ?? []).map((g) => g.config.id);
+          const c = await countScenario(vms[vmIndex], s.structureId, bySeq, 0, Number.MAX_SAFE_INTEGER, s.structureId, logger, groups);
+          f.published += c.published; f.received += c.received; f.stored += c.stored; f.duplicated += c.duplicated; f.lost += c.lost;
+        }
+        return f;
       },
       async close() {
         while (cleanups.length > 0) await cleanups.pop()!().catch(() => undefined);
@@ -220,23 +237,66 @@ export function doubleHolds(spans: readonly HoldSpan[]): Array<[HoldSpan, HoldSp
   return out;
 }
 
-/** Alarm ids raised more than once, over every unit's alarm log on the shared volume. */
+/**
+ * Alarms raised twice, over every unit's alarm log on the shared volume (all holders of a unit
+ * append to its one log, in the order they decided): one occurrence (alarm id and its raise count:
+ * an alarm cleared but not yet acknowledged keeps its id when its condition comes back, with the
+ * count one up) raised again, or an alarm raised for evidence at or before what its rule and
+ * subject had already been judged on (logger time: a redelivered scan raising again what was
+ * raised, or cleared, before). One line each.
+ */
 export async function alarmsRaisedTwice(root: string): Promise<string[]> {
-  const raised = new Map<string, number>();
+  const out: string[] = [];
   const walk = async (dir: string): Promise<void> => {
     for (const e of await readdir(dir, { withFileTypes: true }).catch(() => [])) {
       const p = join(dir, e.name);
       if (e.isDirectory()) await walk(p);
-      else if (e.name === 'alarms.ndjson') {
-        for (const line of (await readFile(p, 'utf8')).split('\n')) {
-          if (line === '') continue;
-          const r = JSON.parse(line) as { kind?: string; transition?: string; alarm_id?: string; alarm?: { id?: string } };
-          const id = r.alarm_id ?? r.alarm?.id;
-          if (id !== undefined && (r.transition === 'raised' || r.kind === 'raised')) raised.set(id, (raised.get(id) ?? 0) + 1);
-        }
-      }
+      else if (e.name === 'alarms.ndjson') out.push(...raisedTwiceIn(await readFile(p, 'utf8')).map((l) => `${p}: ${l}`));
     }
   };
   await walk(join(root, 'shared'));
-  return [...raised].filter(([, n]) => n > 1).map(([id]) => id);
+  return out;
+}
+
+/** Count of `raised` transitions in the alarm logs under the shared volume (the check above is empty-handed without them). */
+export async function alarmsRaised(root: string): Promise<number> {
+  let n = 0;
+  const walk = async (dir: string): Promise<void> => {
+    for (const e of await readdir(dir, { withFileTypes: true }).catch(() => [])) {
+      const p = join(dir, e.name);
+      if (e.isDirectory()) await walk(p);
+      else if (e.name === 'alarms.ndjson') n += transitionsOf(await readFile(p, 'utf8')).filter((m) => m.transition === 'raised').length;
+    }
+  };
+  await walk(join(root, 'shared'));
+  return n;
+}
+
+interface LoggedTransition { transition: string; at: string; alarm_id: string; raise_count: number; rule: string; subject: unknown }
+
+/** The transition lines of one alarm log (`type: transition`, src/alarms/routing/alarm-log.ts), in order. */
+function transitionsOf(text: string): LoggedTransition[] {
+  return text.split('\n').filter((l) => l !== '').map((l) => JSON.parse(l) as { type: string; message?: LoggedTransition })
+    .filter((r) => r.type === 'transition' && r.message !== undefined).map((r) => r.message!);
+}
+
+/** Pure: the double raises in one unit's alarm log (see `alarmsRaisedTwice`). */
+export function raisedTwiceIn(text: string): string[] {
+  const out: string[] = [];
+  const raised = new Set<string>();
+  const judgedUpTo = new Map<string, number>();
+  for (const m of transitionsOf(text)) {
+    // Acknowledgements carry the command's time, not the evidence's.
+    if (m.transition !== 'raised' && m.transition !== 'cleared' && m.transition !== 'level_changed') continue;
+    const cause = `${m.rule} ${JSON.stringify(m.subject)}`;
+    const at = Date.parse(m.at);
+    if (m.transition === 'raised') {
+      const occurrence = `${m.alarm_id} #${m.raise_count}`;
+      if (raised.has(occurrence)) out.push(`${occurrence} raised again at ${m.at}`);
+      else if (at <= (judgedUpTo.get(cause) ?? Number.NEGATIVE_INFINITY)) out.push(`${m.alarm_id} (${cause}) raised at ${m.at}, not after evidence already judged at ${new Date(judgedUpTo.get(cause)!).toISOString()}`);
+      raised.add(occurrence);
+    }
+    judgedUpTo.set(cause, Math.max(at, judgedUpTo.get(cause) ?? Number.NEGATIVE_INFINITY));
+  }
+  return out;
 }

@@ -11,7 +11,7 @@ import type { ComponentFault } from '../alarms/types.js';
 import type { LoadedRuntime } from '../config/load-runtime.js';
 import { newDecodeCounts } from '../ingest/decode-operator.js';
 import { compileTopicPattern, parseTopic } from '../ingest/topic.js';
-import { commandAlarmId, intakeFilters, ownsAlarm, unitComponent } from '../cluster/unit-topics.js';
+import { commandAlarmId, intakeFilters, ownsAlarm, ownsGroup, requestGroupId, unitComponent } from '../cluster/unit-topics.js';
 import { FrameProcessor } from '../pipeline/frame-processor.js';
 import { pipeline, type PipelineInput, type PipelineMessage } from '../pipeline/pipeline.js';
 import type { FrameOutput } from '../pipeline/process-frames.js';
@@ -245,7 +245,13 @@ export async function startLive(loaded: LoadedRuntime, deps: LiveDeps): Promise<
     }, { ...RETRY_FOREVER, scheduler: deps.scheduler, until: stopped$ })).subscribe({ next: (o) => written.note(o), complete: resolveDrained, error: (e) => { deps.log('pipeline_failed', { message: String(e) }); resolveDrained(); } });
   });
   // A rezero request is decided in arrival order with the scans (the pipeline is synchronous up to the frame processor).
-  if (rezero !== null) inbound$.pipe(filter(isRezero)).subscribe((m) => rezero.take(m));
+  // Every unit of a split structure hears every request: only the group's unit answers (one verdict).
+  const rezeroForThisUnit = (m: InboundMessage): boolean => {
+    if (loaded.unit === undefined || ownsGroup(requestGroupId(m.raw.payload), loaded.unit)) return true;
+    m.ack();
+    return false;
+  };
+  if (rezero !== null) inbound$.pipe(filter(isRezero), filter(rezeroForThisUnit)).subscribe((m) => rezero.take(m));
   processed$.connect();
   inbound$.connect();
   const status = () => ({

@@ -20,6 +20,16 @@ export function commandAlarmId(payload: Uint8Array): string {
   }
 }
 
+/** The group a rezero request names ('' when the payload names none, or is not JSON). */
+export function requestGroupId(payload: Uint8Array): string {
+  try {
+    const v: unknown = JSON.parse(Buffer.from(payload).toString('utf8'));
+    return typeof v === 'object' && v !== null && typeof (v as { group_id?: unknown }).group_id === 'string' ? (v as { group_id: string }).group_id : '';
+  } catch {
+    return '';
+  }
+}
+
 /** What a unit is, as the live job needs it (src/config/load-runtime.ts `unit`). */
 export interface UnitIdentity {
   id: string;
@@ -49,4 +59,14 @@ export function ownsAlarm(alarmId: string, structureId: string, unit: UnitIdenti
   if (kind === 'g') return unit.groups.includes(subject) || (unit.first && !unit.structureGroups.includes(subject));
   const at = subject.lastIndexOf('@');
   return at < 0 ? unit.first : subject.slice(at + 1) === unit.id;
+}
+
+/**
+ * Whether a unit answers a rezero request for `groupId`: every unit of a split structure hears
+ * every request, and only the unit that has the group decides it; a request naming no group of
+ * any unit (unknown, misspelt, no group at all, not JSON) is refused by the structure's first unit
+ * (the first in the cluster file's `split` list), so every request gets exactly one verdict.
+ */
+export function ownsGroup(groupId: string, unit: UnitIdentity): boolean {
+  return unit.groups.includes(groupId) || (unit.first && !unit.structureGroups.includes(groupId));
 }

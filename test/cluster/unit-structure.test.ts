@@ -3,7 +3,7 @@ import { compileStructure } from '../../src/config/compile.js';
 import { loadStructureFile } from '../../src/config/load.js';
 import type { StructureConfig } from '../../src/config/structure-schema.js';
 import { checkSplit, unitStructureConfig } from '../../src/cluster/unit-structure.js';
-import { ownsAlarm, type UnitIdentity } from '../../src/cluster/unit-topics.js';
+import { ownsAlarm, ownsGroup, requestGroupId, type UnitIdentity } from '../../src/cluster/unit-topics.js';
 
 /** The ids of a part's alarm rules (none when its alarms are disabled). */
 const rulesOf = (c: StructureConfig) => (c.alarms !== undefined && 'rules' in c.alarms ? c.alarms.rules : []).map((r) => r.id);
@@ -71,5 +71,24 @@ describe('which unit answers an acknowledgement', () => {
     expect(answeredBy('brannock-mere:steel-von-mises:g:no-such-group:1')).toEqual(['steel']);
     expect(answeredBy('not an alarm id')).toEqual(['steel']);
     expect(answeredBy('')).toEqual(['steel']);
+  });
+});
+
+describe('which unit of a split structure answers a rezero request', () => {
+  const base = { structureLoggers: ['lg-pier', 'lg-span1', 'lg-thermal', 'lg-slab', 'lg-slab-thermal'], structureGroups: ['web-north-pier', 'slab-mid1'] };
+  const steel: UnitIdentity = { ...base, id: 'steel', loggers: ['lg-pier', 'lg-span1', 'lg-thermal'], groups: ['web-north-pier'], first: true };
+  const slab: UnitIdentity = { ...base, id: 'slab', loggers: ['lg-slab', 'lg-slab-thermal'], groups: ['slab-mid1'], first: false };
+  const answeredBy = (payload: string) => [steel, slab].filter((u) => ownsGroup(requestGroupId(Buffer.from(payload)), u)).map((u) => u.id);
+
+  it('the unit with the group, and only it', () => {
+    expect(answeredBy('{"group_id":"slab-mid1","reason":"new cabinet"}')).toEqual(['slab']);
+    expect(answeredBy('{"group_id":"web-north-pier","reason":"new cabinet"}')).toEqual(['steel']);
+  });
+
+  it('an unknown group, a request without one and a payload that is not JSON: the first unit alone (it refuses them)', () => {
+    expect(answeredBy('{"group_id":"no-such-group","reason":"x"}')).toEqual(['steel']);
+    expect(answeredBy('{"reason":"x"}')).toEqual(['steel']);
+    expect(answeredBy('{"group_id":7}')).toEqual(['steel']);
+    expect(answeredBy('not json')).toEqual(['steel']);
   });
 });

@@ -49,6 +49,28 @@ describe('simulator: a broker beyond this machine only when asked for', () => {
   });
 });
 
+describe('simulator: several structures, the nodes of a clustered broker, what the broker confirmed', () => {
+  it('takes one --config or several, and a comma list of broker nodes, each of them on loopback', () => {
+    expect(CliOptionsSchema.parse(good).config).toEqual(['config/brannock-mere.yaml']);
+    expect(CliOptionsSchema.parse({ ...good, config: ['a.yaml', 'b.yaml'] }).config).toEqual(['a.yaml', 'b.yaml']);
+    const o = CliOptionsSchema.parse({ ...good, broker: 'mqtt://127.0.0.1:1, mqtt://127.0.0.1:2', connectTimeoutMs: '15000', publishedLog: 'p.ndjson' });
+    expect(o.broker).toEqual(['mqtt://127.0.0.1:1', 'mqtt://127.0.0.1:2']);
+    expect(o.connectTimeoutMs).toBe(15_000);
+    expect(o.clientId).toBe('strainward-simulator');
+    const r = CliOptionsSchema.safeParse({ ...good, broker: 'mqtt://127.0.0.1:1,mqtt://10.0.0.5:1883' });
+    const issues = r.success ? [] : r.error.issues.map((i) => `${String(i.path[0])}: ${i.message}`);
+    expect(issues).toHaveLength(1);
+    expect(issues[0]).toMatch(/^broker: mqtt:\/\/10\.0\.0\.5:1883 is not on this machine \(loopback\)/);
+  });
+
+  it('refuses a published log without a broker, and a connect timeout under 0.1 s', () => {
+    const { broker: _b, ...noBroker } = good;
+    const r = CliOptionsSchema.safeParse({ ...noBroker, publishedLog: 'p.ndjson', connectTimeoutMs: '50' });
+    expect(r.success ? [] : r.error.issues.map((i) => String(i.path[0])).sort()).toEqual(['connectTimeoutMs', 'publishedLog']);
+    expect(r.success ? '' : r.error.issues.find((i) => i.path[0] === 'publishedLog')!.message).toBe('records what a broker confirmed: give --broker too');
+  });
+});
+
 describe('simulator: when heavy vehicles pass and faults happen', () => {
   it('parses --heavy-at-s and --fault-at, and names what is wrong', () => {
     const o = CliOptionsSchema.parse({ ...good, heavyAtS: '40, 900', faultAt: 'dropout@240-270,silent@480,clock_drift@1200' });

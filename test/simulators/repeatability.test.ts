@@ -3,7 +3,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { defaultScenario } from '../../simulators/default-scenario.js';
-import { captureSink, messagesFileSink, runSimulation } from '../../simulators/outputs.js';
+import { captureSink, messagesFileSink, runSimulation, runSimulations, type ScanSink } from '../../simulators/outputs.js';
+import type { SimScan } from '../../simulators/run.js';
 import { createSimulation } from '../../simulators/run.js';
 import { brannock, START_MS } from './support.js';
 
@@ -42,5 +43,31 @@ describe('repeatability', () => {
     };
     expect(payloads(1)).toBe(payloads(1));
     expect(payloads(1)).not.toBe(payloads(2));
+  });
+});
+
+describe('several structures in one run', () => {
+  it('merges their scans in arrival order, each structure exactly as it runs alone, with its truth in its own folder', async () => {
+    const s = await brannock();
+    const copy = { ...s, structureId: 'brannock-copy' };
+    const scnA = defaultScenario({ seed: 1, start_ms: START_MS, duration_s: 5, day_s: 60 });
+    const scnB = defaultScenario({ seed: 2, start_ms: START_MS, duration_s: 5, day_s: 60 });
+    const dir = await mkdtemp(join(tmpdir(), 'sw-sim-'));
+    dirs.push(dir);
+    const sent: SimScan[] = [];
+    const memory: ScanSink = { send: async (scan) => { sent.push(scan); }, close: async () => {} };
+    let t = 0;
+    const summary = await runSimulations([
+      { sim: createSimulation(s, scnA), scn: scnA, outDir: join(dir, 'a') },
+      { sim: createSimulation(copy, scnB), scn: scnB, outDir: join(dir, 'b') },
+    ], { outDir: dir, sinks: [memory], speed: 0, now: () => t++, sleep: async () => {} });
+    const alone = (structure: typeof s, scn: typeof scnA) => [...createSimulation(structure, scn).scans()].map((x) => x.payload);
+    expect(sent.filter((x) => x.structureId === s.structureId).map((x) => x.payload)).toEqual(alone(s, scnA));
+    expect(sent.filter((x) => x.structureId === 'brannock-copy').map((x) => x.payload)).toEqual(alone(copy, scnB));
+    expect(sent.filter((x) => x.structureId === 'brannock-copy').every((x) => x.topic.startsWith('strainward/brannock-copy/'))).toBe(true);
+    expect(summary.scans).toBe(sent.length);
+    for (let i = 1; i < sent.length; i++) expect(sent[i].arrivalMs).toBeGreaterThanOrEqual(sent[i - 1].arrivalMs);
+    const truthLines = async (d: string) => (await readFile(join(dir, d, 'truth.ndjson'), 'utf8')).split('\n').filter((l) => l !== '').length;
+    expect((await truthLines('a')) + (await truthLines('b'))).toBe(summary.truthLines);
   });
 });

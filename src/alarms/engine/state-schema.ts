@@ -14,6 +14,8 @@ const KeyStateSchema = z.strictObject({
   seq: z.number().int(),
   clearsMs: z.array(Num),
   quietSinceMs: NullNum,
+  // Added within version 2 (optional: every older snapshot still reads the same).
+  judgedToMs: Num.optional(),
   trend: Window.optional(),
   rate: Window.optional(),
   hampel: hampelStateSchema.optional(),

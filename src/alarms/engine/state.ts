@@ -16,6 +16,12 @@ export interface KeyState {
   clearsMs: number[];
   /** While flapping: since when the condition has been gone; null while present. */
   quietSinceMs: number | null;
+  /**
+   * Structural rules: the latest logger time judged (ms). A result at or before it is a scan
+   * judged already (redelivered after a takeover or a broker failover, possibly behind newer ones)
+   * or older than one judged: no evidence either way, so it never raises an alarm a second time.
+   */
+  judgedToMs?: number;
   trend?: SampleWindow;
   rate?: SampleWindow;
   hampel?: HampelState;

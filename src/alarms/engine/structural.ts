@@ -44,6 +44,9 @@ export function evaluateStructural(ctx: EngineContext, compiled: CompiledRules, 
     const subjectKey = groupSubjectKey(r.groupId);
     const key = alarmKey(rule.id, subjectKey);
     const ks = keyState(ctx, key, rule.thresholds.length);
+    // Judged already (a redelivered scan) or older than what was: at-least-once delivery must not raise twice.
+    if (ks.judgedToMs !== undefined && r.timeMs <= ks.judgedToMs) continue;
+    ks.judgedToMs = r.timeMs;
     ks.trend ??= newSampleWindow();
     pushSample(ks.trend, r.timeMs, value, trendMs, trendMs / 120);
     let raw: number;

@@ -110,6 +110,7 @@ describe('alarm engine snapshot: every detector restored', () => {
     expect(k['spike|c:LG-01/ch01'].hampel!.pending).toMatchObject({ x: 400 });
     expect(k['flatline|c:LG-01/ch02'].flatline!.runStartMs).toBe(at(0));
     expect(k['vm-girder|g:S1-MID-G2'].trend!.tMs.length).toBeGreaterThan(5);
+    expect(k['vm-girder|g:S1-MID-G2'].judgedToMs).toBe(at(116)); // the last result judged: a redelivered one is not judged again
     expect(k['vm-rate|g:S1-MID-G2'].rate!.tMs.length).toBeGreaterThan(5);
     expect(k['vm-girder|g:S1-MID-G2'].debounce).toMatchObject({ confirmed: 2, belowSinceMs: [null, null, at(116)] });
     expect(k['vm-span2|g:S2-MID-G2'].clearsMs).toEqual([at(12), at(32)]);

@@ -19,6 +19,8 @@
  * Environment (for quick looks): SW_BENCH_FRAMES, SW_BENCH_STEADY_S; SW_BENCH_MQTT and SW_BENCH_DATABASE,
  * JSON objects merged over the runtime configuration's `mqtt` and `database` sections (for example
  * SW_BENCH_DATABASE='{"gzip":"always","max_in_flight":1}'). Without them: the runtime defaults.
+ * SW_BENCH_CPU_PROFILE=DIR: a CPU profile of each policy's saturated run, DIR/<policy>.cpuprofile
+ * (bench/support/profile-top.mjs lists it by self time).
  */
 import { mkdtemp, rm } from 'node:fs/promises';
 import { loadavg, tmpdir } from 'node:os';
@@ -36,6 +38,7 @@ import type { StorageCounts } from '../src/pipeline/storage-stage.js';
 import * as perfHooks from 'node:perf_hooks';
 import { GcTimer, liveHeapMb, RssSampler, round } from './support/measure.js';
 import { startPublisher, type PublishJob, type PublishReport } from './support/publisher.js';
+import { startCpuProfile } from './support/cpu-profile.js';
 
 const envInt = (name: string, fallback: number) => (process.env[name] ? Number.parseInt(process.env[name]!, 10) : fallback);
 const WARM_FRAMES = 3_000;
@@ -143,10 +146,15 @@ async function main(): Promise<Record<string, number | string>> {
     const cpu = new CpuMeter({ victoriametrics: vm.pid, mosquitto: broker.pid, publisher: publisher.pid });
     const cpuStart = process.cpuUsage();
     const gc = new GcTimer(perfHooks);
+    const loopDelay = perfHooks.monitorEventLoopDelay({ resolution: 5 });
+    loopDelay.enable();
+    const profile = process.env.SW_BENCH_CPU_PROFILE ? await startCpuProfile(process.env.SW_BENCH_CPU_PROFILE, policy) : null;
     const pipePub = await withTimeout(publisher.publish(job(PIPELINE_FRAMES)), `${policy}: saturated publish`);
     jobs.push(pipePub);
     await untilTrue(() => acks.acked >= PIPELINE_FRAMES, `${policy}: saturated`, status);
     const cpuUsed = process.cpuUsage(cpuStart);
+    loopDelay.disable();
+    if (profile) console.log(`          CPU profile: ${await profile.stop()}`);
     const rssEnd = rss.sample();
     const cpuPipeline = cpu.percent();
     gc.stop();
@@ -155,7 +163,8 @@ async function main(): Promise<Record<string, number | string>> {
     const p99 = acks.latency.percentile(99);
     const cpuUsPerFrame = (cpuUsed.user + cpuUsed.system) / PIPELINE_FRAMES;
     console.log(`${policy.padEnd(8)}: ${round(framesPerS, 0)} frames/s, ${round(framesPerS * CHANNELS_PER_FRAME, 0)} values/s, ratio to bare ${round((framesPerS * CHANNELS_PER_FRAME) / bareValuesPerS, 3)}; latency p50 ${p50} ms p99 ${p99} ms (saturated: includes the backlog)`);
-    console.log(`          processor CPU ${round(cpuUsPerFrame, 1)} us per scan; rss start ${round(rssStart)} MB, middle ${round(rssMid)} MB, end ${round(rssEnd)} MB (boot ${round(rssBoot)} MB)`);
+    const loopDelayMs = { p99: round(loopDelay.percentile(99) / 1e6, 0), max: round(loopDelay.max / 1e6, 0) };
+    console.log(`          processor CPU ${round(cpuUsPerFrame, 1)} us per scan; event loop delay p99 ${loopDelayMs.p99} ms, max ${loopDelayMs.max} ms; rss start ${round(rssStart)} MB, middle ${round(rssMid)} MB, end ${round(rssEnd)} MB (boot ${round(rssBoot)} MB)`);
     console.log(`          CPU, % of one core (2 on this machine): strainward ${cpuPipeline.self}, VictoriaMetrics ${cpuPipeline.victoriametrics}, Mosquitto ${cpuPipeline.mosquitto}, publisher ${cpuPipeline.publisher}; garbage collection ${round(gc.ms, 0)} ms in ${gc.count} pauses (${round(gc.ms / PIPELINE_FRAMES * 1000, 1)} us per scan)`);
 
     // Steady ~10,000 values/s.
@@ -184,7 +193,7 @@ async function main(): Promise<Record<string, number | string>> {
     if (db.writtenPoints !== expectedPoints || decode.rejected !== 0 || decode.accepted !== frames) throw new Error(`${policy}: the pipeline did not write every point`);
     if (policy === 'summary' && (storage.summaryLines === 0 || storage.lateResults !== 0)) throw new Error('summary: no summary written, or results taken as late');
     return {
-      framesPerS, p50, p99, cpuUsPerFrame, cpuPipeline, gcMs: gc.ms, steadyValuesPerS, steadyP50, steadyP99, frames, storage,
+      framesPerS, p50, p99, cpuUsPerFrame, cpuPipeline, loopDelayMs, gcMs: gc.ms, steadyValuesPerS, steadyP50, steadyP99, frames, storage,
       rssStart, rssMid, rssEnd, rssSteadyStart, rssSteadyEnd, heapStart, heapAfterSaturation, heapSteadyEnd, databasePoints: db.writtenPoints,
     };
   };
@@ -226,6 +235,7 @@ async function main(): Promise<Record<string, number | string>> {
     full_steady_p50_ms: full.steadyP50, full_steady_p99_ms: full.steadyP99,
     frames_per_s: round(full.framesPerS, 0), values_per_s: round(valuesPerS, 0), bare_values_per_s: round(bareValuesPerS, 0),
     ratio: round(valuesPerS / bareValuesPerS, 3), p50_ms: full.p50, p99_ms: full.p99, peak_rss_mb: round(peakRss),
+    full_loop_delay_p99_ms: full.loopDelayMs.p99, full_loop_delay_max_ms: full.loopDelayMs.max,
     cpu_pct_strainward: full.cpuPipeline.self, gc_us_per_frame: round(full.gcMs / PIPELINE_FRAMES * 1000, 1), cpu_pct_database: full.cpuPipeline.victoriametrics, cpu_pct_broker: full.cpuPipeline.mosquitto,
     db_alone_frames_per_s: round(alone.frames_per_s, 0), ratio_to_db_alone: round(full.framesPerS / alone.frames_per_s, 3),
     db_alone_ratio_to_bare: round((alone.frames_per_s * CHANNELS_PER_FRAME) / bareValuesPerS, 3),
@@ -242,6 +252,8 @@ async function main(): Promise<Record<string, number | string>> {
 
 interface PolicyRun {
   framesPerS: number; p50: number; p99: number; cpuUsPerFrame: number; cpuPipeline: Record<string, number>; gcMs: number;
+  /** The event loop's delay over the saturated run (ms): how long the database's answers could wait. */
+  loopDelayMs: { p99: number; max: number };
   steadyValuesPerS: number; steadyP50: number; steadyP99: number; frames: number; storage: StorageCounts; databasePoints: number;
   rssStart: number; rssMid: number; rssEnd: number; rssSteadyStart: number; rssSteadyEnd: number;
   heapStart: number; heapAfterSaturation: number; heapSteadyEnd: number;

@@ -88,8 +88,11 @@ export const RuntimeConfigSchema = z.strictObject({
     token_file: z.string().min(1).optional(),
     batch_size: z.number().int().positive().default(5000),
     flush_interval_ms: duration_ms.default(50),
-    /** Batches written at once: two let the server take one in while the next is being prepared. */
-    max_in_flight: z.number().int().min(1).max(16).default(2),
+    /**
+     * Batches written at once. Four: the server parses requests side by side on its cores, and the
+     * database alone took 12,469 scans/s with four against about 6,000 with two (bench:pipeline).
+     */
+    max_in_flight: z.number().int().min(1).max(16).default(4),
     timeout_ms: duration_ms.default(10_000),
     /** auto: gzip unless the database is on this machine (loopback), where it costs CPU and saves nothing. */
     gzip: z.enum(['auto', 'always', 'never']).default('auto'),

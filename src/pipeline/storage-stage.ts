@@ -78,7 +78,9 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
       emitSummaries(keeper.takeSummaries());
       const block = keeper.takeLines();
       const gated = gate.item(message);
-      if (block.lines === 0) gated.ack();
+      // A frame's block goes on even when its results were all folded into summaries (no line of
+      // its own): the write stage's outcome for it is what counts the frame and its results written.
+      if (block.lines === 0 && of === undefined) gated.ack();
       else subscriber.next({ kind: 'encoded', block, message: gated, timeMs: lastTimeMs, ...of });
     };
 

@@ -71,7 +71,9 @@ export const NO_RETRY: WriteRetry = { maxAttempts: 1, initialDelayMs: 0, maxDela
  * backoff; the message stays unacknowledged meanwhile, and the connection's back-pressure holds
  * the broker back. After the last attempt the frame passes on unacknowledged (the broker
  * redelivers it after a reconnect); once `until` emits, a frame waiting to retry is dropped
- * unacknowledged and emits nothing. Ticks and `received` outputs are not written and emit nothing.
+ * unacknowledged and emits nothing. A block of no lines (a frame whose results all went into
+ * summaries) is acknowledged and emitted at once, without the sink: every frame has its outcome.
+ * Ticks and `received` outputs are not written and emit nothing.
  * Outcomes leave as writes complete.
  *
  * Written as one operator rather than an inner observable per frame: at full rate the per-frame
@@ -160,6 +162,12 @@ export function writeAndAck<M extends Acknowledgeable>(
         // Encoded at once, and only the message kept: the results are let go here.
         const q: Queued<M> = p.kind === 'encoded' ? { written: { message: p.message, loggerId: p.loggerId ?? null, timeMs: p.timeMs, results: p.results ?? 0 }, block: p.block }
           : { written: { message: p.message, loggerId: p.frame.loggerId, timeMs: p.frame.timeMs, results: p.results.length }, block: encode(p) };
+        // Nothing to write (a frame folded into summaries): durable as it is, acknowledged and reported at once.
+        if (q.block.lines === 0) {
+          q.written.message.ack();
+          subscriber.next({ message: q.written.message, loggerId: q.written.loggerId, timeMs: q.written.timeMs, results: q.written.results, acknowledged: true });
+          return;
+        }
         if (inFlight < concurrency && head === waiting.length) start(q);
         else waiting.push(q);
       },

@@ -2,7 +2,8 @@
  * Intake back-pressure against a real Mosquitto (started here on a free loopback port): with
  * maxHeldAcks messages unacknowledged the connection stops reading, and the rest wait at the broker;
  * but an answer the client awaits (PUBACK of its own publish) is always read, and a keep-alive
- * ping outstanding neither makes it read on nor gets the connection given up.
+ * ping outstanding neither makes it read on nor gets the connection given up; and a backlog read
+ * in one burst lets the event loop turn between slices of it.
  */
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -121,6 +122,37 @@ describe('MQTT intake back-pressure', () => {
     expect(errors).toEqual([]);
     expect(client.connected).toBe(true);
     await pub.endAsync();
+    await client.endAsync();
+  });
+
+  it('lets the event loop turn while it reads a backlog (every message, with a slice of 0 ms)', async () => {
+    // A persistent session collects 300 scans while the client is away; on its return the broker
+    // sends them in one burst, which mqtt.js handles through process.nextTick (before any I/O).
+    const opts = { clientId: 'test-bp-slice', protocolVersion: 4 as const, clean: false, reconnectPeriod: 0 };
+    const first = await mqtt.connectAsync(broker.url, opts);
+    await first.subscribeAsync('bps/#', { qos: 1 });
+    await first.endAsync();
+    const pub = await mqtt.connectAsync(broker.url, { clientId: 'test-bps-pub' });
+    await Promise.all(Array.from({ length: 300 }, (_, i) => pub.publishAsync(`bps/${i}`, 'x', { qos: 1 })));
+    await pub.endAsync();
+
+    let turns = 0;
+    let counting = true;
+    const turn = () => { turns++; if (counting) setImmediate(turn); };
+    setImmediate(turn);
+    const turnsSeen: number[] = [];
+    const client = mqtt.connect(broker.url, opts);
+    const intake = holdPubacks(client, 1000, 4, () => {}, 0);
+    client.on('message', (_topic, _payload, packet) => {
+      turnsSeen.push(turns);
+      intake.take(packet.messageId!).ack();
+    });
+    const deadline = Date.now() + 10_000;
+    while (turnsSeen.length < 300 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    counting = false;
+    expect(turnsSeen.length).toBe(300);
+    // Each message after the first was read after a turn of the loop: 300 different counts.
+    expect(new Set(turnsSeen).size).toBe(300);
     await client.endAsync();
   });
 });

@@ -20,6 +20,15 @@ export interface IntakeWindow {
   take(messageId: number): AckTicket;
 }
 
+/**
+ * Longest run of messages handled without letting the event loop turn, ms. mqtt.js handles the
+ * packets it has buffered one after another through process.nextTick, which runs before any I/O:
+ * a burst of a few thousand scans (a window refilled at once) kept the database's answers and the
+ * next batch's bytes waiting for up to 1.3 s (bench:pipeline), so processing and writing took
+ * turns instead of overlapping.
+ */
+export const INTAKE_SLICE_MS = 4;
+
 /** Marks the PUBACKs the ack queue releases, as opposed to the ones mqtt.js sends by itself. */
 const RELEASED = Symbol('strainward.released-puback');
 
@@ -44,11 +53,15 @@ const RELEASED = Symbol('strainward.released-puback');
  * against a window of 4,096 at 5x the sustained rate, bench:overload). So intake stops at the
  * window with a PINGREQ outstanding too, and every stop restarts the keep-alive timer; PINGREQs
  * go on while stopped (each restarting it again), the PINGRESPs are read once reading goes on,
- * and a connection that stays silent while read is given up as before. Mutates `client`.
+ * and a connection that stays silent while read is given up as before.
+ *
+ * Reading also lets the event loop turn once every `sliceMs` of handling (INTAKE_SLICE_MS): the
+ * next packet is read after a setImmediate, so the database's answers, the sockets' writes and the
+ * timers get their turn inside a burst. Mutates `client`.
  */
 export function holdPubacks(
   client: MqttClient, maxHeldAcks: number, protocolVersion: 4 | 5,
-  warn: (event: string, detail?: Record<string, unknown>) => void,
+  warn: (event: string, detail?: Record<string, unknown>) => void, sliceMs = INTAKE_SLICE_MS,
 ): IntakeWindow {
   const internals = client as unknown as {
     _sendPacket: (p: Record<PropertyKey, unknown>, cb?: () => void, ...rest: unknown[]) => void;
@@ -61,6 +74,19 @@ export function holdPubacks(
   });
   let deferred: (() => void) | null = null;
   let warnedThisConnection = false;
+  let sliceStartMs = performance.now();
+  /** Bumped at every close: a read let go before it must not go on reading the next connection's packets. */
+  let connectionGeneration = 0;
+  /** Goes on reading now, or after one turn of the event loop once this slice has run `sliceMs`. */
+  const readOn = (cb: () => void) => {
+    const now = performance.now();
+    if (now - sliceStartMs < sliceMs) return cb();
+    const generation = connectionGeneration;
+    setImmediate(() => {
+      sliceStartMs = performance.now();
+      if (generation === connectionGeneration) cb();
+    });
+  };
 
   /** Our own SUBSCRIBE, UNSUBSCRIBE or QoS 1/2 PUBLISH waits for the broker's answer. */
   const awaitingBroker = () => {
@@ -72,6 +98,7 @@ export function holdPubacks(
     const cb = deferred;
     deferred = null;
     stats.resumes++;
+    sliceStartMs = performance.now();
     cb();
   };
   internals._sendPacket = (packet, cb, ...rest) => {
@@ -83,7 +110,8 @@ export function holdPubacks(
         client.reschedulePing(true);
         return;
       }
-      cb?.(); // tell mqtt.js it went out, so it reads the next packet; the queue sends the real one
+      // Tell mqtt.js it went out, so it reads the next packet (the queue sends the real one).
+      if (cb) readOn(cb);
       return;
     }
     if (packet.cmd === 'pingreq' && deferred !== null) {
@@ -101,6 +129,7 @@ export function holdPubacks(
   client.on('close', () => {
     acks.reset();
     deferred = null;
+    connectionGeneration++;
     warnedThisConnection = false;
   });
 

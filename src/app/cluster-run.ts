@@ -26,7 +26,14 @@ export async function startClusterProcessor(cluster: LoadedCluster, deps: LiveDe
   const processorId = deps.processorId ?? `${hostname()}-${process.pid}`;
   const byKey = new Map(cluster.units.map((u) => [u.key, u]));
   const running = new Map<string, LiveProcessor>();
-  const etcd = new Etcd3({ hosts: cluster.config.cluster.etcd.endpoints, dialTimeout: 3000 });
+  const ttl_ms = cluster.config.cluster.etcd.lease_ttl_s * 1000;
+  const etcd = new Etcd3({
+    hosts: cluster.config.cluster.etcd.endpoints, dialTimeout: 3000,
+    // Without a deadline a call waits for a connection for ever when no member answers: a
+    // reconcile pass would never end and an orderly stop would wait on it. One TTL (at least 1 s)
+    // is as long as an answer can be of use; the lease keep-alive is a stream and has none.
+    defaultCallOptions: (context) => (context.isStream ? {} : { deadline: Date.now() + Math.max(1000, ttl_ms) }),
+  });
   const leases = new UnitLeases(etcd, {
     prefix: clusterPrefix(cluster.config.cluster.name), processorId, ttl_s: cluster.config.cluster.etcd.lease_ttl_s,
     maxUnits: cluster.config.cluster.max_units_per_processor, units: cluster.units.map((u) => u.key),
@@ -44,12 +51,15 @@ export async function startClusterProcessor(cluster: LoadedCluster, deps: LiveDe
     },
     stop: async (key, how) => {
       const live = running.get(key);
-      running.delete(key);
-      if (how === 'release') await live?.stop();
+      // Kept in `running` until stopped: a lease lost during an orderly stop must still find the
+      // connections to drop (else they reconnect with the unit's client id under the next holder).
+      const forget = () => { if (running.get(key) === live) running.delete(key); };
+      if (how === 'release') await live?.stop().finally(forget);
       else if (live !== undefined) {
         // Its connections are gone: what it had not acknowledged comes back to the next holder. The
         // rest is cleanup, given a bounded time so that this processor can join again.
         const timedOut = await Promise.race([live.stop().then(() => false), new Promise<boolean>((r) => setTimeout(() => r(true), LOST_STOP_MS).unref())]);
+        forget();
         if (timedOut) (deps.warn ?? deps.log)('unit_stop_timed_out', { unit: key, processor: processorId, after_ms: LOST_STOP_MS });
       }
       deps.log('unit_stopped', { unit: key, processor: processorId, how });

@@ -64,7 +64,9 @@ export class UnitLeases {
     this.stopping = true;
     if (this.timer) clearInterval(this.timer);
     if (this.guard) clearInterval(this.guard);
-    while (this.busy) await new Promise((r) => setTimeout(r, 20));
+    // A pass in progress ends within its etcd calls' deadlines; bounded here all the same.
+    const waitUntil_ms = this.o.now() + 2 * this.o.ttl_s * 1000;
+    while (this.busy && this.o.now() < waitUntil_ms) await new Promise((r) => setTimeout(r, 20));
     for (const unit of [...this.held.keys()]) await this.release(unit);
     await this.lease?.revoke().catch(() => {});
     this.lease = null;

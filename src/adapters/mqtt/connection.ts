@@ -142,7 +142,23 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
     if (early) early.push(message);
     else subject.next(message);
   });
+  // Set by abandon(): mqtt.js may already be reconnecting, and the handlers below would otherwise
+  // set a reconnect period again.
+  let abandoned = false;
+  const endIfAbandoned = (): boolean => {
+    if (!abandoned) return false;
+    client.options.reconnectPeriod = 0;
+    const internal = client as unknown as { disconnecting: boolean; _clearReconnect(): void; stream?: { destroy(): void } };
+    if (internal.disconnecting) {
+      // An orderly end() is already waiting for PUBACKs that cannot come; mqtt.js ignores a second
+      // end(), and its reconnect timer would go on: stop both by hand.
+      internal._clearReconnect();
+      internal.stream?.destroy();
+    } else client.end(true);
+    return true;
+  };
   client.on('reconnect', () => {
+    if (endIfAbandoned()) return;
     stats.reconnectAttempts++;
     // mqtt.js reads reconnectPeriod each time it schedules, so growing it here is the backoff.
     delay_ms = nextReconnectDelay_ms(delay_ms, o);
@@ -176,8 +192,8 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
       // Later publishes and close() must not wait on a client that is gone.
       endedBy ??= new Error('connection abandoned');
       // No reconnect after this, even one mqtt.js has already scheduled (a broker node gone).
-      client.options.reconnectPeriod = 0;
-      client.end(true);
+      abandoned = true;
+      endIfAbandoned();
       subject.complete();
     },
   };
@@ -207,6 +223,7 @@ function attempt(o: MqttConnectionOptions, version: 4 | 5, deps: MqttDeps): Prom
       }
     });
     client.on('connect', (connack) => {
+      if (endIfAbandoned()) return;
       stats.connects++;
       delay_ms = o.reconnectInitial_ms;
       client.options.reconnectPeriod = delay_ms;

@@ -7,6 +7,7 @@ import { CAUTION } from '../help-text.js';
 import { loadClusterFile } from '../../cluster/load-cluster.js';
 import { startClusterProcessor } from '../../app/cluster-run.js';
 import { parseOptions } from '../options.js';
+import { EXIT } from '../exit-codes.js';
 
 export const RunOptionsSchema = z.strictObject({
   config: z.string().min(1).optional(),
@@ -17,6 +18,28 @@ export const RunOptionsSchema = z.strictObject({
   logFormat: z.enum(['auto', 'json', 'lines']).default('auto'),
   logLevel: z.enum(LOG_LEVELS).default('info'),
 }).refine((o) => (o.config === undefined) !== (o.cluster === undefined), { message: 'give either --config or --cluster', path: ['config'] });
+
+/**
+ * How long an orderly stop may take. It drains, writes and acknowledges what is in flight, and says
+ * `stopped` on the broker; with the broker or etcd gone some of that can never finish. What is not
+ * acknowledged comes back on the next session and the capture is synced before every
+ * acknowledgement, so ending the process then loses nothing a kill would not (the fault proof).
+ */
+export const STOP_DEADLINE_MS = 15_000;
+
+/** Runs the orderly stop; past STOP_DEADLINE_MS says so and ends the process (exit 1). */
+async function stopWithin(stop: () => Promise<void>, log: ReturnType<typeof makeLogger>): Promise<void> {
+  let timer: NodeJS.Timeout | undefined;
+  const timedOut = await Promise.race([
+    stop().then(() => false),
+    new Promise<boolean>((done) => { timer = setTimeout(() => done(true), STOP_DEADLINE_MS); }),
+  ]);
+  clearTimeout(timer);
+  if (!timedOut) return;
+  log.warn({ event: 'stop_timed_out', after_ms: STOP_DEADLINE_MS, message: 'the orderly stop did not finish (broker, database or etcd not answering); ending now: unacknowledged messages come back to the next session' });
+  log.flush();
+  process.exit(EXIT.runtime);
+}
 
 /** `strainward run`: the live job, until SIGINT or SIGTERM. */
 export function runCommand(): Command {
@@ -50,7 +73,7 @@ export function runCommand(): Command {
         void live.outbound.loginRefused.then(done);
       });
       if (timer) clearInterval(timer);
-      await live.stop();
+      await stopWithin(() => live.stop(), log);
       log.info({ event: 'stopped', ...live.status() });
       if (refused) throw refused;
     });
@@ -65,6 +88,6 @@ async function runCluster(file: string, processorId: string | undefined, statusE
   const timer = statusEvery > 0 ? setInterval(() => log.info({ event: 'status', units: member.status() }), statusEvery * 1000) : null;
   await new Promise<void>((done) => { process.once('SIGINT', done); process.once('SIGTERM', done); });
   if (timer) clearInterval(timer);
-  await member.stop();
+  await stopWithin(() => member.stop(), log);
   log.info({ event: 'stopped', processor: member.processorId });
 }

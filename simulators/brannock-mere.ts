@@ -48,6 +48,8 @@ const program = new Command('brannock-mere')
 
 /** Set by SIGTERM or SIGINT: the run ends at the next scan, waits for the broker's outstanding confirmations, and reports. */
 let stopped = false;
+/** The broker sink of the run, told at a stop so that a send waiting for room does not hold it up. */
+let brokerSink: MqttScanSink | null = null;
 
 async function main(): Promise<number> {
   program.parse();
@@ -84,6 +86,7 @@ async function main(): Promise<number> {
       onConfirmed: publishedLog === null ? undefined : (c) => { void publishedLog.write(c); },
     });
     sinks.push(broker);
+    brokerSink = broker;
   }
   if (o.captureDir) sinks.push(await captureSink(o.captureDir));
   if (o.messages || !(o.broker || o.captureDir)) sinks.push(messagesFileSink(join(o.out, 'messages.ndjson')));
@@ -97,7 +100,7 @@ async function main(): Promise<number> {
   return 0;
 }
 
-for (const signal of ['SIGTERM', 'SIGINT'] as const) process.once(signal, () => { stopped = true; });
+for (const signal of ['SIGTERM', 'SIGINT'] as const) process.once(signal, () => { stopped = true; brokerSink?.abort(); });
 
 main().then((code) => { process.exitCode = code; }, (err: unknown) => {
   console.error(err instanceof ConfigError ? err.message : err);

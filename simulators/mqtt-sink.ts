@@ -22,6 +22,8 @@ export interface MqttSinkOptions {
 export interface MqttScanSink extends ScanSink {
   /** Publishes confirmed by the broker, and those still awaiting (or given up at close). */
   counts(): { confirmed: number; unconfirmed: number };
+  /** The run is ending: a `send` waiting for room returns at once, and later ones publish nothing. */
+  abort(): void;
 }
 
 /**
@@ -41,6 +43,7 @@ export async function mqttSink(url: string, o: MqttSinkOptions = {}): Promise<Mq
   let confirmed = 0;
   let failed = 0;
   let wakeSender: (() => void) | null = null;
+  let aborted = false;
   const settled = () => {
     pending--;
     if (wakeSender !== null && pending < maxInFlight) { const w = wakeSender; wakeSender = null; w(); }
@@ -51,7 +54,9 @@ export async function mqttSink(url: string, o: MqttSinkOptions = {}): Promise<Mq
   };
   return {
     async send(scan: SimScan) {
-      while (pending >= maxInFlight) await new Promise<void>((r) => { wakeSender = r; });
+      // With the broker down the window stays full: a stop must not wait for the broker to come back.
+      while (pending >= maxInFlight && !aborted) await new Promise<void>((r) => { wakeSender = r; });
+      if (aborted) return; // never handed to the client: not published, not counted
       pending++;
       client.publishAsync(scan.topic, scan.payload, { qos: 1 }).then(() => {
         confirmed++;
@@ -59,6 +64,10 @@ export async function mqttSink(url: string, o: MqttSinkOptions = {}): Promise<Mq
       }, () => { failed++; }).finally(settled);
     },
     counts: () => ({ confirmed, unconfirmed: pending + failed }),
+    abort() {
+      aborted = true;
+      if (wakeSender !== null) { const w = wakeSender; wakeSender = null; w(); }
+    },
     async close() {
       await drained(o.drainTimeoutMs ?? 30_000);
       // Whatever is still unconfirmed is given up (end(true) drops it), and never counted.

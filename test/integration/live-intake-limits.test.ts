@@ -74,6 +74,10 @@ describe.each([5, 4] as const)('live intake at mqtt.max_held_acks, MQTT protocol
       // keepalive 5 s: a stalled connection would time out and reconnect well inside the test's wait
       mqtt: { url: broker.url, client_id: clientId, protocol_version: protocolVersion, fallback_to_v311: false, max_held_acks: LIMIT, keepalive_s: 5 },
       line_protocol: { dir: join(dir, clientId, 'lp') },
+      // Acknowledgements wait for the capture's group commit: 250 ms of them is longer than the broker
+      // takes to send a window's worth, so the window fills whatever the speed of the machine (the
+      // pauses counted below), rather than only when processing happens to fall behind.
+      capture: { dir: join(dir, clientId, 'capture'), flush_every_ms: 250 },
       dead_letters: { file: join(dir, clientId, 'dl.ndjson') },
       alarms: { state_file: join(dir, clientId, 'alarm-state.json'), log_file: join(dir, clientId, 'alarms.ndjson') },
       tick_ms: 200,

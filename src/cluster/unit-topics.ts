@@ -10,25 +10,22 @@ export function unitComponent(component: string, unit: { id: string } | undefine
   return unit === undefined ? component : `${component}@${unit.id}`;
 }
 
-/** The alarm id an acknowledgement command names ('' when the payload says none). */
-export function commandAlarmId(payload: Uint8Array): string {
+/** A string field of a JSON command payload ('' when absent, not a string, or not JSON). */
+function payloadString(payload: Uint8Array, field: string): string {
   try {
     const v: unknown = JSON.parse(Buffer.from(payload).toString('utf8'));
-    return typeof v === 'object' && v !== null && typeof (v as { alarm_id?: unknown }).alarm_id === 'string' ? (v as { alarm_id: string }).alarm_id : '';
+    const x = typeof v === 'object' && v !== null ? (v as Record<string, unknown>)[field] : undefined;
+    return typeof x === 'string' ? x : '';
   } catch {
     return '';
   }
 }
 
+/** The alarm id an acknowledgement command names ('' when the payload says none). */
+export const commandAlarmId = (payload: Uint8Array): string => payloadString(payload, 'alarm_id');
+
 /** The group a rezero request names ('' when the payload names none, or is not JSON). */
-export function requestGroupId(payload: Uint8Array): string {
-  try {
-    const v: unknown = JSON.parse(Buffer.from(payload).toString('utf8'));
-    return typeof v === 'object' && v !== null && typeof (v as { group_id?: unknown }).group_id === 'string' ? (v as { group_id: string }).group_id : '';
-  } catch {
-    return '';
-  }
-}
+export const requestGroupId = (payload: Uint8Array): string => payloadString(payload, 'group_id');
 
 /** What a unit is, as the live job needs it (src/config/load-runtime.ts `unit`). */
 export interface UnitIdentity {

@@ -21,48 +21,59 @@ export const RESULT_FIELD_ORDER: readonly ResultQuantity[] = [
   'residual_rms_micro', 'fit_std_error_micro', 'temperature_degC', 'temperature_age_s',
 ];
 
-function put(values: Partial<Record<ResultQuantity, number>>, k: ResultQuantity, v: number): void {
-  if (Number.isFinite(v)) values[k] = v;
-}
+const fin = Number.isFinite;
 
 /**
  * Copies an evaluator output (overwritten on the next sample) into an immutable GroupResult.
  * Only finite values are kept: a quantity that does not apply to the group is absent, never NaN.
+ * Each field is stored by its literal name, in RESULT_FIELD_ORDER: the objects of one kind of group
+ * then share one layout (a keyed store through a helper, and a delete for the single gauge, made
+ * every result a slow dictionary to build and to read).
  */
 export function toGroupResult(
   structureId: string, group: CompiledGroup, out: GroupOutput, timeMs: number, seq: number | null,
   extraFlags: number, temperatureAgeS: number,
 ): GroupResult {
   const values: Partial<Record<ResultQuantity, number>> = {};
-  for (let i = 0; i < 6; i++) {
-    put(values, STRAIN_NAMES[i], out.strainMicro[i]);
-    put(values, STRESS_NAMES[i], out.stressMPa[i]);
+  const e = out.strainMicro;
+  const t = out.stressMPa;
+  // A single gauge reports its axis only; xx duplicates would mislead.
+  if (!fin(out.axialStressMPa)) {
+    if (fin(e[0])) values.strain_xx_micro = e[0];
+    if (fin(t[0])) values.stress_xx_MPa = t[0];
   }
-  if (Number.isFinite(out.axialStressMPa)) {
-    // A single gauge reports its axis only; xx duplicates would mislead.
-    delete values.strain_xx_micro;
-    delete values.stress_xx_MPa;
-  }
-  put(values, 'strain_axial_micro', out.axialStrainMicro);
-  put(values, 'stress_axial_MPa', out.axialStressMPa);
-  put(values, 'principal_1_MPa', out.principalMPa[0]);
-  put(values, 'principal_2_MPa', out.principalMPa[1]);
-  put(values, 'principal_3_MPa', out.principalMPa[2]);
-  put(values, 'principal_angle_deg', out.principalAngleDeg);
-  put(values, 'principal_1_dir_x', out.principalDir1[0]);
-  put(values, 'principal_1_dir_y', out.principalDir1[1]);
-  put(values, 'principal_1_dir_z', out.principalDir1[2]);
-  put(values, 'max_shear_in_plane_MPa', out.maxShearInPlaneMPa);
-  put(values, 'max_shear_abs_MPa', out.maxShearAbsMPa);
-  put(values, 'von_mises_MPa', out.vonMisesMPa);
-  put(values, 'tresca_MPa', out.trescaMPa);
-  put(values, 'ratio_von_mises_to_yield', out.ratioVonMisesToYield);
-  put(values, 'ratio_tension_to_tensile_strength', out.ratioTensionToTensile);
-  put(values, 'ratio_compression_to_compressive_strength', out.ratioCompressionToCompressive);
-  put(values, 'residual_rms_micro', out.residualRmsMicro);
-  put(values, 'fit_std_error_micro', out.fitStdErrorMicro);
-  put(values, 'temperature_degC', out.temperatureC);
-  put(values, 'temperature_age_s', temperatureAgeS);
+  if (fin(e[1])) values.strain_yy_micro = e[1];
+  if (fin(t[1])) values.stress_yy_MPa = t[1];
+  if (fin(e[2])) values.strain_zz_micro = e[2];
+  if (fin(t[2])) values.stress_zz_MPa = t[2];
+  if (fin(e[3])) values.strain_yz_micro = e[3];
+  if (fin(t[3])) values.stress_yz_MPa = t[3];
+  if (fin(e[4])) values.strain_xz_micro = e[4];
+  if (fin(t[4])) values.stress_xz_MPa = t[4];
+  if (fin(e[5])) values.strain_xy_micro = e[5];
+  if (fin(t[5])) values.stress_xy_MPa = t[5];
+  if (fin(out.axialStrainMicro)) values.strain_axial_micro = out.axialStrainMicro;
+  if (fin(out.axialStressMPa)) values.stress_axial_MPa = out.axialStressMPa;
+  const p = out.principalMPa;
+  if (fin(p[0])) values.principal_1_MPa = p[0];
+  if (fin(p[1])) values.principal_2_MPa = p[1];
+  if (fin(p[2])) values.principal_3_MPa = p[2];
+  if (fin(out.principalAngleDeg)) values.principal_angle_deg = out.principalAngleDeg;
+  const d = out.principalDir1;
+  if (fin(d[0])) values.principal_1_dir_x = d[0];
+  if (fin(d[1])) values.principal_1_dir_y = d[1];
+  if (fin(d[2])) values.principal_1_dir_z = d[2];
+  if (fin(out.maxShearInPlaneMPa)) values.max_shear_in_plane_MPa = out.maxShearInPlaneMPa;
+  if (fin(out.maxShearAbsMPa)) values.max_shear_abs_MPa = out.maxShearAbsMPa;
+  if (fin(out.vonMisesMPa)) values.von_mises_MPa = out.vonMisesMPa;
+  if (fin(out.trescaMPa)) values.tresca_MPa = out.trescaMPa;
+  if (fin(out.ratioVonMisesToYield)) values.ratio_von_mises_to_yield = out.ratioVonMisesToYield;
+  if (fin(out.ratioTensionToTensile)) values.ratio_tension_to_tensile_strength = out.ratioTensionToTensile;
+  if (fin(out.ratioCompressionToCompressive)) values.ratio_compression_to_compressive_strength = out.ratioCompressionToCompressive;
+  if (fin(out.residualRmsMicro)) values.residual_rms_micro = out.residualRmsMicro;
+  if (fin(out.fitStdErrorMicro)) values.fit_std_error_micro = out.fitStdErrorMicro;
+  if (fin(out.temperatureC)) values.temperature_degC = out.temperatureC;
+  if (fin(temperatureAgeS)) values.temperature_age_s = temperatureAgeS;
   const elementStrainMicro: Record<string, number> = {};
   const elements = group.model.elements;
   for (let i = 0; i < elements.length; i++) {

@@ -60,15 +60,12 @@ export class LineBuffer {
     if (value < 0) buf[pos++] = MINUS;
     pos = writeUnsigned(buf, pos, whole);
     if (frac !== 0) {
+      // frac < 10^9 < 2^31: int32 arithmetic (a double's % is a library call), two digits per division.
       let digits = decimals;
-      while (frac % 10 === 0) { frac /= 10; digits--; }
+      let f = frac | 0;
+      for (let q = (f / 10) | 0; f === q * 10; q = (f / 10) | 0) { f = q; digits--; }
       buf[pos] = DOT;
-      // frac < 10^9 < 2^31: integer arithmetic.
-      for (let p = pos + digits; p > pos; p--) {
-        const q = (frac / 10) | 0;
-        buf[p] = ZERO + frac - q * 10;
-        frac = q;
-      }
+      writeDigits(buf, pos + 1, f, digits);
       pos += digits + 1;
     }
     this.pos = pos;
@@ -125,25 +122,39 @@ export class LineBuffer {
   }
 }
 
+/** "00" "01" ... "99" as ASCII: two digits per division by 100. */
+const PAIRS = Buffer.from(Array.from({ length: 100 }, (_, i) => String(i).padStart(2, '0')).join(''), 'latin1');
+
+/** Decimal digits of an integer in [0, 2^31). */
+function digitCount(n: number): number {
+  if (n < 100_000) return n < 10 ? 1 : n < 100 ? 2 : n < 1000 ? 3 : n < 10_000 ? 4 : 5;
+  return n < 1e6 ? 6 : n < 1e7 ? 7 : n < 1e8 ? 8 : n < 1e9 ? 9 : 10;
+}
+
+/** Writes `n` (an integer in [0, 2^31)) as exactly `len` digits ending before pos + len, zero-padded on the left. */
+function writeDigits(buf: Buffer, pos: number, n: number, len: number): void {
+  let p = pos + len;
+  while (p - pos >= 2) {
+    const q = (n / 100) | 0;
+    const r = (n - q * 100) << 1;
+    buf[--p] = PAIRS[r + 1];
+    buf[--p] = PAIRS[r];
+    n = q;
+  }
+  if (p > pos) buf[--p] = ZERO + n;
+}
+
 /** Writes the digits of a non-negative integer below 9e15 at `pos`; returns the position after them. */
 function writeUnsigned(buf: Buffer, pos: number, n: number): number {
   if (n < 2_147_483_648) {
-    // int32 arithmetic for the common case: each digit costs a multiply and a shift.
-    let len = 1;
-    for (let t = n; t >= 10; t = (t / 10) | 0) len++;
-    for (let p = pos + len - 1; p >= pos; p--) {
-      const q = (n / 10) | 0;
-      buf[p] = ZERO + n - q * 10;
-      n = q;
-    }
+    const len = digitCount(n);
+    writeDigits(buf, pos, n, len);
     return pos + len;
   }
-  let len = 1;
-  for (let t = n; t >= 10; t = Math.floor(t / 10)) len++;
-  for (let p = pos + len - 1; p >= pos; p--) {
-    const q = Math.floor(n / 10);
-    buf[p] = ZERO + n - q * 10;
-    n = q;
-  }
-  return pos + len;
+  // Above int32: the part above 10^9 first, then nine digits (both below 2^31).
+  const high = Math.floor(n / 1e9);
+  const low = n - high * 1e9;
+  const at = writeUnsigned(buf, pos, high);
+  writeDigits(buf, at, low, 9);
+  return at + 9;
 }

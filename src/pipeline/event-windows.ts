@@ -7,6 +7,7 @@
  */
 import { flagsFromBits, qualityBits } from '../model/quality.js';
 import { RESULT_QUANTITIES, type GroupResult, type ResultQuantity } from '../model/result.js';
+import { FieldPlaces } from '../results/field-places.js';
 import { RESULT_FIELD_ORDER } from '../results/group-result.js';
 
 const Q = RESULT_QUANTITIES.length;
@@ -30,13 +31,17 @@ export interface ResultRing {
   size: number;
   /** Results overwritten while still within the pre-trigger span (the ring was too small for it). */
   overwritten: number;
+  /** Field name -> place in a slot, by position (field-places.ts). */
+  readonly slots: FieldPlaces<number>;
 }
 
 export function newResultRing(
   structureId: string, groupId: string, zone: string, loggerId: string, elementGauges: readonly string[], capacity: number,
 ): ResultRing {
   const slotSize = HEAD + Q + elementGauges.length;
-  return { structureId, groupId, zone, loggerId, elementGauges, capacity, slotSize, data: new Float64Array(capacity * slotSize), head: 0, size: 0, overwritten: 0 };
+  return { structureId, groupId, zone, loggerId, elementGauges, capacity, slotSize, data: new Float64Array(capacity * slotSize), head: 0, size: 0, overwritten: 0,
+    slots: new FieldPlaces((name) => SLOT_INDEX.get(name)!),
+  };
 }
 
 /** Bytes the ring holds: fixed at construction. */
@@ -69,7 +74,9 @@ export function ringPush(ring: ResultRing, r: GroupResult): void {
   // Only the values the result has (for-in reads them off the object's own layout); the rest NaN.
   d.fill(Number.NaN, o, o + Q);
   const values = r.values as Record<string, number>;
-  for (const name in values) d[o + SLOT_INDEX.get(name)!] = values[name];
+  const slots = ring.slots;
+  let i = 0;
+  for (const name in values) d[o + slots.at(i++, name)] = values[name];
   o += Q;
   const gauges = ring.elementGauges;
   for (let e = 0; e < gauges.length; e++) d[o++] = r.elementStrainMicro[gauges[e]] ?? Number.NaN;

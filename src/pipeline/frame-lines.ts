@@ -4,6 +4,7 @@ import type { LineBlock } from '../model/point.js';
 import { QUALITY_FLAGS, qualityBits } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
 import type { GroupResult } from '../model/result.js';
+import { FieldPlaces } from '../results/field-places.js';
 import type { ProcessedFrame } from './frame-processor.js';
 
 /**
@@ -45,6 +46,8 @@ const MISSING_KEY = ascii('missing_channels=');
 const LAG_KEY = ascii(',arrival_lag_ms=');
 const SPACE = 0x20;
 const COMMA = 0x2c;
+/** A group's sw_result series: its tags as last seen, its escaped key, its field keys by position. */
+interface ResultSeries { structure: string; zone: string; logger: string; key: Buffer; fields: FieldPlaces<Buffer> }
 /** Bounds on the name caches: names come from the configuration, so they stay far below. */
 const CACHE_LIMIT = 100_000;
 
@@ -73,7 +76,7 @@ export function frameLineEncoder(options: FrameLineOptions = {}): FrameLineEncod
 export function frameLineWriter(options: FrameLineOptions = {}): FrameLineWriter {
   const extra = Object.entries(options.extraTags ?? {});
   const out = new LineBuffer();
-  const resultKeys = new Map<string, { structure: string; zone: string; logger: string; key: Buffer }>();
+  const resultKeys = new Map<string, ResultSeries>();
   const rawKeys = new Map<string, { structure: string; key: Buffer }>();
   const fieldKeys = new Map<string, Buffer>();
   const channelKeys = new Map<string, Buffer>();
@@ -87,12 +90,13 @@ export function frameLineWriter(options: FrameLineOptions = {}): FrameLineWriter
     }
     return ascii(text);
   };
-  const resultKey = (r: GroupResult): Buffer => {
+  const resultSeries = (r: GroupResult): ResultSeries => {
     const c = resultKeys.get(r.groupId);
-    if (c !== undefined && c.structure === r.structureId && c.zone === r.zone && c.logger === r.loggerId) return c.key;
+    if (c !== undefined && c.structure === r.structureId && c.zone === r.zone && c.logger === r.loggerId) return c;
     const key = seriesKey('sw_result', [['structure', r.structureId], ['group', r.groupId], ['zone', r.zone], ['logger', r.loggerId]]);
-    if (resultKeys.size < CACHE_LIMIT) resultKeys.set(r.groupId, { structure: r.structureId, zone: r.zone, logger: r.loggerId, key });
-    return key;
+    const series = { structure: r.structureId, zone: r.zone, logger: r.loggerId, key, fields: new FieldPlaces(fieldKey) };
+    if (resultKeys.size < CACHE_LIMIT) resultKeys.set(r.groupId, series);
+    return series;
   };
   const rawKey = (structure: string, logger: string): Buffer => {
     const c = rawKeys.get(logger);
@@ -108,17 +112,21 @@ export function frameLineWriter(options: FrameLineOptions = {}): FrameLineWriter
   const elementKey = (gauge: string): Buffer => cachedKey(elementKeys, gauge, elementFieldText);
 
   const writeResult = (r: GroupResult): void => {
-    out.bytes(resultKey(r));
+    const series = resultSeries(r);
+    out.bytes(series.key);
     // quality_bits comes first: it is always there, so every other field follows a comma.
     const bits = qualityBits(r.flags);
     out.bytes(QUALITY_KEY);
     out.exact(bits);
     for (let i = 0; i < FLAG_KEYS.length; i++) if ((bits >> i) & 1) out.bytes(FLAG_KEYS[i]);
     const values = r.values as Record<string, number>;
+    const fields = series.fields;
+    let i = 0;
     for (const name in values) {
       const v = values[name];
+      const key = fields.at(i++, name);
       if (!Number.isFinite(v)) continue;
-      out.bytes(fieldKey(name));
+      out.bytes(key);
       out.fixed(v, RESULT_DECIMALS);
     }
     if (options.elementStrains) {

@@ -6,6 +6,7 @@ import { qualityBits } from '../model/quality.js';
 import type { LoggerFrame } from '../model/raw-message.js';
 import { RESULT_QUANTITIES, type GroupResult } from '../model/result.js';
 import { inWindow, newResultRing, newWindowSpan, openWindow, ringDropBefore, ringPush, ringTakeFrom, type ResultRing, type WindowSpan } from './event-windows.js';
+import { FieldPlaces } from '../results/field-places.js';
 import { frameLineWriter, type FrameLineOptions, type FrameLineWriter } from './frame-lines.js';
 import { STORAGE_STATE_VERSION, type StorageState } from './storage-state.js';
 import {
@@ -42,6 +43,8 @@ interface GroupStore {
   window: WindowSpan;
   triggers: CompiledTrigger[];
   rates: SampleWindow[];
+  /** Field name -> statistics index q, by position (field-places.ts). */
+  quantities: FieldPlaces<number>;
 }
 
 interface LoggerStore {
@@ -85,6 +88,7 @@ export class StorageKeeper {
         key: summary ? w.seriesKey('sw_summary', [['structure', structureId], ['group', g.groupId], ['zone', g.zone], ['logger', g.loggerId], ['interval', intervalTag(g.summaryIntervalMs!)]]) : null,
         ring: summary && g.ringCapacity > 0 ? newResultRing(structureId, g.groupId, g.zone, g.loggerId, g.elementGauges, g.ringCapacity) : null,
         window: newWindowSpan(), triggers, rates: triggers.map(() => newSampleWindow()),
+        quantities: new FieldPlaces((name) => QUANTITY_INDEX.get(name)!),
       });
     }
     if (cfg.raw.store === 'summary') {
@@ -239,7 +243,9 @@ export class StorageKeeper {
       s.trusted++;
       // for-in reads the values the result has straight off its layout; a result has about 20 of the 32.
       const values = r.values as Record<string, number>;
-      for (const name in values) foldValue(s, QUANTITY_INDEX.get(name)!, values[name], r.timeMs);
+      const places = g.quantities;
+      let i = 0;
+      for (const name in values) foldValue(s, places.at(i++, name), values[name], r.timeMs);
     }
     noteFolded(series, r.timeMs, r.seq);
     if (inWindow(g.window, r.timeMs)) this.writeWindowed(r);

@@ -13,6 +13,8 @@ const MINUS = 0x2d;
 const DOT = 0x2e;
 const ZERO = 0x30;
 const NEWLINE = 0x0a;
+/** Longest copy done byte by byte (see bytes()). */
+const SHORT_COPY = 16;
 /** Sign, 16 integer digits (below 9e15), point, 9 decimals. */
 const MAX_FIXED_BYTES = 27;
 
@@ -22,15 +24,17 @@ export class LineBuffer {
   private lineCount = 0;
 
   /**
-   * Copies prepared bytes (an escaped series key, `,field=`...). A plain loop: for a 15-byte key it
-   * took 22-28 ns where Buffer#copy took 30-33 ns (measured on the project machine).
+   * Copies prepared bytes (an escaped series key, `,field=`...). A plain loop up to SHORT_COPY bytes:
+   * for a 15-byte key it took 22-28 ns where Buffer#copy took 30-33 ns; for a 23-byte field key
+   * TypedArray#set took 28-36 ns where the loop took 45-49 (measured on the project machine).
    */
   bytes(b: Uint8Array): void {
     const n = b.length;
     this.ensure(n);
     const buf = this.buf;
     const pos = this.pos;
-    for (let i = 0; i < n; i++) buf[pos + i] = b[i];
+    if (n > SHORT_COPY) buf.set(b, pos);
+    else for (let i = 0; i < n; i++) buf[pos + i] = b[i];
     this.pos = pos + n;
   }
 

@@ -47,12 +47,34 @@ export function compileTopicPattern(pattern: string = DEFAULT_TOPIC_PATTERN): To
   return topicPatternSchema.parse(pattern);
 }
 
+/** A match is shared between calls for the same topic: never mutate it. */
 export type TopicMatch =
-  | { ok: true; structureId: string; loggerId: string }
+  | { readonly ok: true; readonly structureId: string; readonly loggerId: string }
   | { ok: false; rejection: Rejection };
 
-/** Split a topic into structure and logger ids, or an `unknown_topic` rejection. Pure. */
+/**
+ * Topics that matched, per pattern: a logger publishes on the same topic every scan, so splitting
+ * it again each time (an array and four strings) is work and garbage for nothing. Bounded: past
+ * TOPIC_CACHE_LIMIT topics (far more loggers than a structure has) it starts afresh.
+ */
+const matched = new WeakMap<TopicPattern, Map<string, TopicMatch>>();
+export const TOPIC_CACHE_LIMIT = 4096;
+
+/** Split a topic into structure and logger ids, or an `unknown_topic` rejection. Pure (its cache aside: same answer). */
 export function parseTopic(pattern: TopicPattern, topic: string): TopicMatch {
+  let cache = matched.get(pattern);
+  const hit = cache?.get(topic);
+  if (hit !== undefined) return hit;
+  const match = splitTopic(pattern, topic);
+  if (match.ok) {
+    if (cache === undefined) matched.set(pattern, (cache = new Map()));
+    if (cache.size >= TOPIC_CACHE_LIMIT) cache.clear();
+    cache.set(topic, match);
+  }
+  return match;
+}
+
+function splitTopic(pattern: TopicPattern, topic: string): TopicMatch {
   const levels = topic.split('/');
   const unknown = (reason: string): TopicMatch => ({
     ok: false,

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { compileTopicPattern, formatTopic, parseTopic, subscriptionFilter, topicPatternSchema } from '../../src/ingest/topic.js';
+import { compileTopicPattern, formatTopic, parseTopic, subscriptionFilter, TOPIC_CACHE_LIMIT, topicPatternSchema } from '../../src/ingest/topic.js';
 
 describe('topic pattern', () => {
   const pattern = compileTopicPattern();
@@ -10,6 +10,16 @@ describe('topic pattern', () => {
       structureId: 'brannock-mere',
       loggerId: 'span1-north',
     });
+  });
+
+  it('answers a topic seen before alike, per pattern, and past its cache bound still right', () => {
+    const other = compileTopicPattern('site/{logger}/raw/{structure}');
+    const first = parseTopic(pattern, 'strainward/brannock-mere/span1-north/scan');
+    expect(parseTopic(pattern, ['strainward', 'brannock-mere', 'span1-north', 'scan'].join('/'))).toBe(first);
+    // The same text under another pattern is that pattern's answer, not the cached one.
+    expect(parseTopic(other, 'strainward/brannock-mere/span1-north/scan').ok).toBe(false);
+    for (let i = 0; i <= TOPIC_CACHE_LIMIT; i++) expect(parseTopic(pattern, `strainward/s/lg-${i}/scan`)).toEqual({ ok: true, structureId: 's', loggerId: `lg-${i}` });
+    expect(parseTopic(pattern, 'strainward/brannock-mere/span1-north/scan')).toEqual(first);
   });
 
   it('builds the per-structure subscription filter and a logger topic', () => {

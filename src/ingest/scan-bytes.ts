@@ -76,7 +76,8 @@ let numberRead = 0;
 
 /**
  * Reads a JSON number at `i` in the exact range (no exponent, <= 15 significant digits, <= 22
- * decimals) into `numberRead`; returns the index after it, or -1 to decline.
+ * decimals) into `numberRead`; returns the index after it, or -1 to decline. The caller declines
+ * unless a separator follows, so a digit after a leading 0, an exponent or a second dot is refused.
  */
 function readNumber(b: Uint8Array, i: number): number {
   const negative = b[i] === MINUS;
@@ -107,8 +108,6 @@ function readNumber(b: Uint8Array, i: number): number {
     decimals = i - from;
     if (decimals === 0) return -1;
   }
-  // Anything but a separator after it (a digit after a leading 0, an exponent, a second dot) is left to JSON.parse.
-  if (c !== COMMA && c !== CLOSE_OBJECT && !isWhitespace(c)) return -1;
   if (significant > MAX_SIGNIFICANT_DIGITS || decimals >= POW10.length) return -1;
   const magnitude = decimals === 0 ? mantissa : mantissa / POW10[decimals];
   numberRead = negative ? -magnitude : magnitude;

@@ -61,24 +61,30 @@ export function decodeMessage(
 
 /**
  * Channel keys of each logger's last byte-read scan: loggers send the same keys every scan, so
- * comparing bytes replaces building strings. Bounded: emptied when more loggers than this appear.
+ * comparing bytes replaces building strings, and the directory, once it knew them all, is not
+ * asked again (its answers are fixed, see ChannelDirectory). Bounded: emptied when more loggers
+ * than this appear.
  */
 const MAX_REMEMBERED_LOGGERS = 4096;
-const rememberedKeys = new Map<string, ChannelKeys>();
+const remembered = new Map<string, { keys: ChannelKeys; allKnownIn: ChannelDirectory | null }>();
 
 /** The frame of a common scan read from its bytes that passes every check, else null. */
 function frameFromBytes(raw: RawMessage, directory: ChannelDirectory, loggerId: string, limits: DecodeLimits): LoggerFrame | null {
   if (raw.payload.byteLength > MAX_PAYLOAD_BYTES) return null;
-  const previous = rememberedKeys.get(loggerId) ?? null;
-  const scan = scanFromBytes(raw.payload, previous);
+  let memory = remembered.get(loggerId);
+  const scan = scanFromBytes(raw.payload, memory?.keys ?? null);
   if (scan === null) return null;
-  if (scan.keys !== previous) {
-    if (previous === null && rememberedKeys.size >= MAX_REMEMBERED_LOGGERS) rememberedKeys.clear();
-    rememberedKeys.set(loggerId, scan.keys);
+  if (memory === undefined || scan.keys !== memory.keys) {
+    if (memory === undefined && remembered.size >= MAX_REMEMBERED_LOGGERS) remembered.clear();
+    remembered.set(loggerId, (memory = { keys: scan.keys, allKnownIn: null }));
   }
   const problems: Rejection[] = [];
   const timeMs = checkedTime(scan.ts, raw.arrivalMs, limits, problems);
-  checkChannels(scan.values.keys(), true, loggerId, directory, problems);
+  if (memory.allKnownIn !== directory) {
+    const before = problems.length;
+    checkChannels(scan.values.keys(), true, loggerId, directory, problems);
+    if (problems.length === before) memory.allKnownIn = directory;
+  }
   if (problems.length > 0) return null;
   return toFrame(directory, loggerId, timeMs, scan.seq, scan.synthetic, scan.values, raw.arrivalMs);
 }

@@ -223,6 +223,17 @@ describe('decodeMessage: the byte path answers exactly as the general path', () 
     expect(expectSamePaths(message(enc('{"ts":1741944413589,"values":{"ch01":1}}'), 'lg-c')).ok).toBe(false);
   });
 
+  it('asks another directory again about channel keys the first one knew', () => {
+    const m = message(enc('{"ts":1741944413589,"values":{"ch01":1,"ch02":2}}'), 'lg-b');
+    expect(decodeMessage(m, dir, pattern).ok).toBe(true);
+    expect(decodeMessage(m, dir, pattern).ok).toBe(true);
+    const withoutCh02: ChannelDirectory = { ...dir, hasChannel: (l, c) => c !== 'ch02' && dir.hasChannel(l, c) };
+    const r = decodeMessage(m, withoutCh02, pattern);
+    expect(r.ok).toBe(false);
+    expect(!r.ok && r.deadLetter.rejections.map((x) => x.path)).toEqual(['values.ch02']);
+    expect(decodeMessage(m, dir, pattern).ok).toBe(true);
+  });
+
   it('on random scans and random corruptions of them, in runs of one logger (fast-check)', () => {
     let read = 0;
     let decoded = 0;

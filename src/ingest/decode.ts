@@ -60,31 +60,28 @@ export function decodeMessage(
 }
 
 /**
- * Channel keys of each logger's last byte-read scan: loggers send the same keys every scan, so
- * comparing bytes replaces building strings, and the directory, once it knew them all, is not
- * asked again (its answers are fixed, see ChannelDirectory). Bounded: emptied when more loggers
- * than this appear.
+ * Each logger's channel keys of its last byte-read scan, with the directory that knew them all:
+ * loggers send the same keys every scan, so comparing bytes replaces building strings and the
+ * directory is not asked again (its answers are fixed, see ChannelDirectory). Only known keys are
+ * kept, so the memory is the size of the configuration; emptied if more loggers than this appear.
  */
 const MAX_REMEMBERED_LOGGERS = 4096;
-const remembered = new Map<string, { keys: ChannelKeys; allKnownIn: ChannelDirectory | null }>();
+const remembered = new Map<string, { keys: ChannelKeys; knownIn: ChannelDirectory }>();
 
 /** The frame of a common scan read from its bytes that passes every check, else null. */
 function frameFromBytes(raw: RawMessage, directory: ChannelDirectory, loggerId: string, limits: DecodeLimits): LoggerFrame | null {
   if (raw.payload.byteLength > MAX_PAYLOAD_BYTES) return null;
-  let memory = remembered.get(loggerId);
+  const memory = remembered.get(loggerId);
   const scan = scanFromBytes(raw.payload, memory?.keys ?? null);
   if (scan === null) return null;
-  if (memory === undefined || scan.keys !== memory.keys) {
-    if (memory === undefined && remembered.size >= MAX_REMEMBERED_LOGGERS) remembered.clear();
-    remembered.set(loggerId, (memory = { keys: scan.keys, allKnownIn: null }));
-  }
   const problems: Rejection[] = [];
-  const timeMs = checkedTime(scan.ts, raw.arrivalMs, limits, problems);
-  if (memory.allKnownIn !== directory) {
-    const before = problems.length;
+  if (memory === undefined || scan.keys !== memory.keys || memory.knownIn !== directory) {
     checkChannels(scan.values.keys(), true, loggerId, directory, problems);
-    if (problems.length === before) memory.allKnownIn = directory;
+    if (problems.length > 0) return null;
+    if (memory === undefined && remembered.size >= MAX_REMEMBERED_LOGGERS) remembered.clear();
+    remembered.set(loggerId, { keys: scan.keys, knownIn: directory });
   }
+  const timeMs = checkedTime(scan.ts, raw.arrivalMs, limits, problems);
   if (problems.length > 0) return null;
   return toFrame(directory, loggerId, timeMs, scan.seq, scan.synthetic, scan.values, raw.arrivalMs);
 }

@@ -4,6 +4,7 @@ import type { DeadLetter, Rejection } from '../model/rejection.js';
 import { toDeadLetter } from './dead-letter-record.js';
 import { jsonShapeProblem, keyTokensAndDepth, MAX_JSON_DEPTH, parsedKeyCount } from './json-guard.js';
 import { parseLoggerTimestamp, plainScan, schemaFor } from './payload-schema.js';
+import { scanFromBytes, type ChannelKeys } from './scan-bytes.js';
 import { parseTopic, type TopicPattern } from './topic.js';
 
 /**
@@ -33,17 +34,62 @@ type Issue = { code: string; path: PropertyKey[]; message: string; keys?: string
 const strictUtf8 = new TextDecoder('utf-8', { fatal: true, ignoreBOM: true });
 const NON_FINITE_TEXT = /^\s*[+-]?(nan|inf|infinity)\s*$/i;
 
+/** `fastPath: false` decodes every message the general way (tests compare the two paths). */
+export interface DecodeOptions {
+  fastPath?: boolean;
+}
+
 /**
  * Decode one raw message into a logger frame, or a dead letter listing every problem found
  * (topic, JSON, schema, unknown logger or channel, non-finite numbers, timestamp) at once.
- * Pure: reads nothing but its arguments, mutates nothing.
+ * The common scan is read straight from its bytes (`scan-bytes.ts`); any message that path
+ * declines or that fails a check is decoded again the general way, which words every refusal.
+ * Pure in its results: its one state, each logger's last channel keys, only saves work.
  */
 export function decodeMessage(
-  raw: RawMessage, directory: ChannelDirectory, pattern: TopicPattern, limits: DecodeLimits = { maxFutureMs: DEFAULT_MAX_FUTURE_MS },
+  raw: RawMessage, directory: ChannelDirectory, pattern: TopicPattern,
+  limits: DecodeLimits = { maxFutureMs: DEFAULT_MAX_FUTURE_MS }, options?: DecodeOptions,
 ): DecodeResult {
   const rejections: Rejection[] = [];
   const loggerId = knownLogger(raw.topic, directory, pattern, rejections);
+  if (loggerId !== null && options?.fastPath !== false) {
+    const frame = frameFromBytes(raw, directory, loggerId, limits);
+    if (frame !== null) return { ok: true, frame };
+  }
+  return decodeGeneral(raw, directory, limits, loggerId, rejections);
+}
 
+/**
+ * Each logger's channel keys of its last byte-read scan, with the directory that knew them all:
+ * loggers send the same keys every scan, so comparing bytes replaces building strings and the
+ * directory is not asked again (its answers are fixed, see ChannelDirectory). Only known keys are
+ * kept, so the memory is the size of the configuration; emptied if more loggers than this appear.
+ */
+const MAX_REMEMBERED_LOGGERS = 4096;
+const remembered = new Map<string, { keys: ChannelKeys; knownIn: ChannelDirectory }>();
+
+/** The frame of a common scan read from its bytes that passes every check, else null. */
+function frameFromBytes(raw: RawMessage, directory: ChannelDirectory, loggerId: string, limits: DecodeLimits): LoggerFrame | null {
+  if (raw.payload.byteLength > MAX_PAYLOAD_BYTES) return null;
+  const memory = remembered.get(loggerId);
+  const scan = scanFromBytes(raw.payload, memory?.keys ?? null);
+  if (scan === null) return null;
+  const problems: Rejection[] = [];
+  if (memory === undefined || scan.keys !== memory.keys || memory.knownIn !== directory) {
+    checkChannels(scan.values.keys(), true, loggerId, directory, problems);
+    if (problems.length > 0) return null;
+    if (memory === undefined && remembered.size >= MAX_REMEMBERED_LOGGERS) remembered.clear();
+    remembered.set(loggerId, { keys: scan.keys, knownIn: directory });
+  }
+  const timeMs = checkedTime(scan.ts, raw.arrivalMs, limits, problems);
+  if (problems.length > 0) return null;
+  return toFrame(directory, loggerId, timeMs, scan.seq, scan.synthetic, scan.values, raw.arrivalMs);
+}
+
+/** JSON.parse, schema and checks: every message the byte path declines, and every refusal. */
+function decodeGeneral(
+  raw: RawMessage, directory: ChannelDirectory, limits: DecodeLimits, loggerId: string | null, rejections: Rejection[],
+): DecodeResult {
   const parsed = parseJson(raw.payload);
   if (!parsed.ok) {
     rejections.push(parsed.rejection);
@@ -61,34 +107,9 @@ export function decodeMessage(
   if (isRecord(input)) {
     const ts = input.ts;
     if (typeof ts === 'string' || (typeof ts === 'number' && Number.isFinite(ts))) {
-      const t = parseLoggerTimestamp(ts);
-      if (t.ok) timeMs = t.timeMs;
-      else rejections.push({ code: 'invalid_timestamp', path: 'ts', reason: `ts: ${t.reason}` });
-      // The arrival time is the processor's clock, live and in replay (recorded in the capture).
-      const aheadMs = timeMs - raw.arrivalMs;
-      if (aheadMs > limits.maxFutureMs) {
-        rejections.push({
-          code: 'future_timestamp', path: 'ts',
-          reason: `ts: ${new Date(timeMs).toISOString()} is ${(aheadMs / 1000).toFixed(1)} s ahead of the processor's clock `
-            + `(arrival ${new Date(raw.arrivalMs).toISOString()}), more than ingest.max_future_s = ${limits.maxFutureMs / 1000} s: check the logger's clock`,
-        });
-      }
+      timeMs = checkedTime(ts, raw.arrivalMs, limits, rejections);
     }
-    // A message naming a channel the configuration does not know is refused whole, not
-    // half-processed: such a logger is misconfigured (wrong program, swapped cable map), and
-    // its other values are then suspect too. Refusing it makes the fault visible at once.
-    if (loggerId !== null) {
-      for (const channelId of channelsNamed(input)) {
-        if (!directory.hasChannel(loggerId, channelId)) {
-          const path = isRecord(input.values) ? `values.${channelId}` : 'channel';
-          rejections.push({
-            code: 'unknown_channel',
-            path,
-            reason: `${path}: channel "${channelId}" is not configured on logger "${loggerId}"`,
-          });
-        }
-      }
-    }
+    if (loggerId !== null) checkChannels(channelsNamed(input), isRecord(input.values), loggerId, directory, rejections);
   }
 
   if (rejections.length > 0 || !result.success || loggerId === null) {
@@ -98,16 +119,54 @@ export function decodeMessage(
   const values = new Map<string, number | null>();
   if ('values' in data) for (const channel in data.values) values.set(channel, data.values[channel]);
   else values.set(data.channel, data.value);
-  const frame: LoggerFrame = {
-    structureId: directory.structureId,
-    loggerId,
-    timeMs,
-    seq: data.seq ?? null,
-    values,
-    arrivalMs: raw.arrivalMs,
-  };
-  if (data.synthetic === true) frame.synthetic = true;
-  return { ok: true, frame };
+  return { ok: true, frame: toFrame(directory, loggerId, timeMs, data.seq ?? null, data.synthetic === true, values, raw.arrivalMs) };
+}
+
+/** The logger time of `ts`, NaN if refused; refusals (range, syntax, ahead of arrival) pushed to `out`. */
+function checkedTime(ts: string | number, arrivalMs: number, limits: DecodeLimits, out: Rejection[]): number {
+  let timeMs = NaN;
+  const t = parseLoggerTimestamp(ts);
+  if (t.ok) timeMs = t.timeMs;
+  else out.push({ code: 'invalid_timestamp', path: 'ts', reason: `ts: ${t.reason}` });
+  // The arrival time is the processor's clock, live and in replay (recorded in the capture).
+  const aheadMs = timeMs - arrivalMs;
+  if (aheadMs > limits.maxFutureMs) {
+    out.push({
+      code: 'future_timestamp', path: 'ts',
+      reason: `ts: ${new Date(timeMs).toISOString()} is ${(aheadMs / 1000).toFixed(1)} s ahead of the processor's clock `
+        + `(arrival ${new Date(arrivalMs).toISOString()}), more than ingest.max_future_s = ${limits.maxFutureMs / 1000} s: check the logger's clock`,
+    });
+  }
+  return timeMs;
+}
+
+/**
+ * A message naming a channel the configuration does not know is refused whole, not
+ * half-processed: such a logger is misconfigured (wrong program, swapped cable map), and
+ * its other values are then suspect too. Refusing it makes the fault visible at once.
+ */
+function checkChannels(
+  channelIds: Iterable<string>, inValues: boolean, loggerId: string, directory: ChannelDirectory, out: Rejection[],
+): void {
+  for (const channelId of channelIds) {
+    if (!directory.hasChannel(loggerId, channelId)) {
+      const path = inValues ? `values.${channelId}` : 'channel';
+      out.push({
+        code: 'unknown_channel',
+        path,
+        reason: `${path}: channel "${channelId}" is not configured on logger "${loggerId}"`,
+      });
+    }
+  }
+}
+
+function toFrame(
+  directory: ChannelDirectory, loggerId: string, timeMs: number, seq: number | null, synthetic: boolean,
+  values: Map<string, number | null>, arrivalMs: number,
+): LoggerFrame {
+  const frame: LoggerFrame = { structureId: directory.structureId, loggerId, timeMs, seq, values, arrivalMs };
+  if (synthetic) frame.synthetic = true;
+  return frame;
 }
 
 /** The logger id when the topic names this structure and a configured logger; else null (rejection pushed). */

@@ -52,6 +52,12 @@ export type TopicMatch =
   | { readonly ok: true; readonly structureId: string; readonly loggerId: string }
   | { ok: false; rejection: Rejection };
 
+// Not a closure inside parseTopic: that was one function object made per message.
+const unknownTopic = (topic: string, reason: string): TopicMatch => ({
+  ok: false,
+  rejection: { code: 'unknown_topic', path: '', reason: `topic "${topic}" ${reason}` },
+});
+
 /**
  * Topics that matched, per pattern: a logger publishes on the same topic every scan, so splitting
  * it again each time (an array and four strings) is work and garbage for nothing. Bounded: past
@@ -76,18 +82,14 @@ export function parseTopic(pattern: TopicPattern, topic: string): TopicMatch {
 
 function splitTopic(pattern: TopicPattern, topic: string): TopicMatch {
   const levels = topic.split('/');
-  const unknown = (reason: string): TopicMatch => ({
-    ok: false,
-    rejection: { code: 'unknown_topic', path: '', reason: `topic "${topic}" ${reason}` },
-  });
   if (levels.length !== pattern.levels.length) {
-    return unknown(`has ${levels.length} levels, pattern "${pattern.source}" has ${pattern.levels.length}`);
+    return unknownTopic(topic, `has ${levels.length} levels, pattern "${pattern.source}" has ${pattern.levels.length}`);
   }
   for (let i = 0; i < levels.length; i++) {
     if (i === pattern.structureLevel || i === pattern.loggerLevel) {
-      if (levels[i] === '') return unknown(`has an empty level ${i + 1}`);
+      if (levels[i] === '') return unknownTopic(topic, `has an empty level ${i + 1}`);
     } else if (levels[i] !== pattern.levels[i]) {
-      return unknown(`does not match pattern "${pattern.source}" at level ${i + 1}`);
+      return unknownTopic(topic, `does not match pattern "${pattern.source}" at level ${i + 1}`);
     }
   }
   return { ok: true, structureId: levels[pattern.structureLevel], loggerId: levels[pattern.loggerLevel] };

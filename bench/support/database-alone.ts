@@ -9,7 +9,7 @@ import { openInfluxSink } from '../../src/adapters/influx/influx-sink.js';
 import { gzipThreshold } from '../../src/app/sinks.js';
 import type { CompiledStructure } from '../../src/config/compile.js';
 import type { RuntimeConfig } from '../../src/config/runtime-schema.js';
-import type { LineBlock } from '../../src/model/point.js';
+import { lineBlockText, type LineBlock } from '../../src/model/point.js';
 import { FrameProcessor } from '../../src/pipeline/frame-processor.js';
 import { frameLineEncoder } from '../../src/pipeline/frame-lines.js';
 import { CpuMeter } from './cpu-meter.js';
@@ -49,7 +49,7 @@ export async function measureDatabaseAlone(
   const status = sink.status();
   await sink.close();
   if (status.writtenPoints !== blocks.reduce((n, b) => n + b.lines, 0)) throw new Error(`database alone: ${status.writtenPoints} lines written, spooled ${status.spooledPoints}`);
-  const sample = blocks[0].text;
+  const sample = lineBlockText(blocks[0]);
   const fields = sample.split('\n').reduce((n, line) => n + line.split(' ')[1].split(',').length, 0);
   return { frames_per_s: count / seconds, values_per_frame: fields, bytes_per_frame: Buffer.byteLength(sample) + 1, cpu_pct: cpuPct };
 }

@@ -3,7 +3,7 @@
  * rules as the other sinks (non-finite fields dropped, a point with no finite field skipped), so
  * tests against it see what a database would hold.
  */
-import type { LineBlock, Point, PointSink } from '../model/point.js';
+import { lineBlockText, type LineBlock, type Point, type PointSink } from '../model/point.js';
 import { decodeLines } from './lineproto/decode.js';
 
 /** Copy of `point` without its non-finite fields, or null when none is left. */
@@ -36,7 +36,7 @@ export class MemorySink implements PointSink {
   /** Lines are decoded back, so the points are what a database would hold (rounding included). */
   async writeLines(block: LineBlock): Promise<void> {
     if (this.closed) throw new Error('memory sink: write after close');
-    for (const point of decodeLines(block.text)) this.points.push(point);
+    for (const point of decodeLines(lineBlockText(block))) this.points.push(point);
   }
 
   async close(): Promise<void> {

@@ -14,12 +14,47 @@ export interface Point {
 }
 
 /**
- * Line protocol already encoded (InfluxDB line protocol, precision ms): `lines` complete lines in
- * `text`, separated by a newline, without a final one. The pipeline writes each frame as one block.
+ * Line protocol already encoded (InfluxDB line protocol, precision ms, UTF-8): `lines` complete
+ * lines in `bytes`, separated by a newline, without a final one. The pipeline writes each frame as
+ * one block. The bytes are a view into the encoder's slab (adapters/lineproto/line-buffer.ts),
+ * never written again: a frame's lines are not a string of their own (thousands a second, each
+ * living until its batch is sent, were a large part of the garbage collector's work), and a sink
+ * joins a batch's blocks into one text or one file write.
  */
 export interface LineBlock {
-  readonly text: string;
+  readonly bytes: Uint8Array;
   readonly lines: number;
+}
+
+const NEWLINE = 0x0a;
+
+/** A block of `lines` lines given as text. */
+export function lineBlockOf(text: string, lines: number): LineBlock {
+  return { bytes: Buffer.from(text, 'utf8'), lines };
+}
+
+/** A block's lines as text. */
+export function lineBlockText(block: LineBlock): string {
+  const b = block.bytes;
+  return Buffer.from(b.buffer, b.byteOffset, b.byteLength).toString('utf8');
+}
+
+/**
+ * The blocks' bytes one after the other, each followed by a newline (`finalNewline`) or separated
+ * by one: one allocation, one copy of each block.
+ */
+export function joinLineBlocks(blocks: readonly LineBlock[], finalNewline: boolean): Buffer {
+  let total = 0;
+  for (const b of blocks) total += b.bytes.byteLength + 1;
+  if (!finalNewline && blocks.length > 0) total--;
+  const out = Buffer.allocUnsafe(total);
+  let pos = 0;
+  for (let i = 0; i < blocks.length; i++) {
+    out.set(blocks[i].bytes, pos);
+    pos += blocks[i].bytes.byteLength;
+    if (pos < total) out[pos++] = NEWLINE;
+  }
+  return out;
 }
 
 /**

@@ -1,7 +1,7 @@
 import { Observable, type OperatorFunction, type SchedulerLike } from 'rxjs';
 import type { AlarmTransition } from '../alarms/types.js';
 import type { CompiledStorage } from '../config/compile-storage.js';
-import type { LineBlock } from '../model/point.js';
+import { lineBlockOf, lineBlockText, type LineBlock } from '../model/point.js';
 import type { FrameLineOptions } from './frame-lines.js';
 import type { FrameOutput } from './process-frames.js';
 import { StorageGate, type GatedAck } from './storage-gate.js';
@@ -70,7 +70,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
     const emitSummaries = (block: LineBlock) => {
       if (block.lines === 0) return;
       const id = nextUnwritten++;
-      unwritten.set(id, block.text);
+      unwritten.set(id, lineBlockText(block));
       subscriber.next({ kind: 'encoded', block, message: { ack: () => { unwritten.delete(id); }, nack: () => {} }, timeMs: lastTimeMs });
     };
     /** Emits what the keeper wrote since the last take; the full-rate block releases `message` once persisted (null: none). */
@@ -85,7 +85,7 @@ export function storageStage<M extends { ack(): void }>(deps: StorageStageDeps):
     };
 
     // Lines a previous run closed and had not seen durable: written again (the same bytes, the same points).
-    for (const text of deps.restored?.unwritten ?? []) emitSummaries({ text, lines: text.split('\n').length });
+    for (const text of deps.restored?.unwritten ?? []) emitSummaries(lineBlockOf(text, text.split('\n').length));
     if (deps.restored !== undefined) keeper.restore(deps.restored);
     emit(null);
     gate.poke();

@@ -14,7 +14,7 @@ import { startLive } from '../../src/app/live.js';
 import { replay } from '../../src/app/replay.js';
 import { compileStructure, type CompiledStructure } from '../../src/config/compile.js';
 import { parseRuntimeConfig } from '../../src/config/load-runtime.js';
-import type { LineBlock, Point } from '../../src/model/point.js';
+import { lineBlockText, type LineBlock, type Point } from '../../src/model/point.js';
 import { defaultScenario } from '../../simulators/default-scenario.js';
 import { createSimulation } from '../../simulators/run.js';
 import { startMosquitto } from '../support/servers.js';
@@ -83,7 +83,7 @@ describe('live job with summaries, stopped and started again', () => {
     const blocks: string[] = [];
     await replay({
       structure: full.structure, messages: (async function* () { for (const s of scans) yield { topic: s.topic, payload: new TextEncoder().encode(s.payload), arrivalMs: s.arrivalMs }; })(),
-      sink: { write: async () => {}, writeLines: async (b: LineBlock) => { blocks.push(b.text); }, close: async () => {} },
+      sink: { write: async () => {}, writeLines: async (b: LineBlock) => { blocks.push(lineBlockText(b)); }, close: async () => {} },
       deadLetters: { write: async () => {} }, runTag: 'ref', tickMs: 200, speed: 0, sleep: async () => {},
     });
     const results: Point[] = decodeLines(blocks.join('\n').split('\n').filter((l) => l.startsWith('sw_result')).join('\n'));

@@ -1,3 +1,4 @@
+import { lineBlockText } from '../../src/model/point.js';
 import { describe, expect, it } from 'vitest';
 import { decodeLines } from '../../src/adapters/lineproto/decode.js';
 import type { LoggerFrame } from '../../src/model/raw-message.js';
@@ -16,7 +17,7 @@ describe('frameLineEncoder: the database layout of a processed frame', () => {
     const p = processed(frame(7, { ch0: 412.37, ch1: -61.2, ch2: 0.01 }));
     const block = frameLineEncoder()(p);
     expect(block.lines).toBe(2);
-    const [result, raw] = decodeLines(block.text);
+    const [result, raw] = decodeLines(lineBlockText(block));
     expect(result.measurement).toBe('sw_result');
     expect(result.tags).toEqual({ structure: 'deck-a', group: 'r1', zone: 'z', logger: 'lg' });
     expect(result.timeMs).toBe(1_793_491_200_700);
@@ -34,12 +35,12 @@ describe('frameLineEncoder: the database layout of a processed frame', () => {
       measurement: 'sw_raw', tags: { structure: 'deck-a', logger: 'lg' }, timeMs: 1_793_491_200_700,
       fields: { ch0: 412.37, ch1: -61.2, ch2: 0.01, missing_channels: 0, arrival_lag_ms: 25, seq: 7 },
     });
-    expect(block.text.split('\n')[0]).toMatch(/^sw_result,group=r1,logger=lg,structure=deck-a,zone=z quality_bits=2,flag_temperature_missing=1,/);
+    expect(lineBlockText(block).split('\n')[0]).toMatch(/^sw_result,group=r1,logger=lg,structure=deck-a,zone=z quality_bits=2,flag_temperature_missing=1,/);
   });
 
   it('writes a flag field only on a result that carries the flag, with quality_bits holding them all', () => {
     const p = processed(frame(1, { ch0: 9000, ch1: 10, ch2: null }));
-    const [result, raw] = decodeLines(frameLineEncoder()(p).text);
+    const [result, raw] = decodeLines(lineBlockText(frameLineEncoder()(p)));
     expect(p.results[0].flags).toEqual(['temperature_missing', 'element_missing', 'element_out_of_range', 'underdetermined']);
     expect(result.fields.quality_bits).toBe(2 + 4 + 8 + 64);
     const flagFields = Object.entries(result.fields).filter(([k]) => k.startsWith('flag_'));
@@ -51,11 +52,11 @@ describe('frameLineEncoder: the database layout of a processed frame', () => {
   it('adds the run tag, element strains when asked, and leaves raw readings out when asked', () => {
     const p = processed(frame(2, { ch0: 100, ch1: 50, ch2: -30 }));
     const block = frameLineEncoder({ extraTags: { run: 'night run' }, elementStrains: true, raw: false })(p);
-    const lines = decodeLines(block.text);
+    const lines = decodeLines(lineBlockText(block));
     expect(lines).toHaveLength(1);
     expect(lines[0].tags.run).toBe('night run');
     // Tags sorted by key; the space escaped (line protocol reference, "Special characters").
-    expect(block.text).toMatch(/^sw_result,group=r1,logger=lg,run=night\\ run,structure=deck-a,zone=z /);
+    expect(lineBlockText(block)).toMatch(/^sw_result,group=r1,logger=lg,run=night\\ run,structure=deck-a,zone=z /);
     // No thermal output and no transverse sensitivity here: mechanical strain = reading.
     expect([lines[0].fields.el_g0_micro, lines[0].fields.el_g1_micro, lines[0].fields.el_g2_micro]).toEqual([100, 50, -30]);
   });
@@ -63,9 +64,9 @@ describe('frameLineEncoder: the database layout of a processed frame', () => {
   it('gives the same text for the same frame, frame after frame (names prepared once)', () => {
     const encode = frameLineEncoder();
     const p = processed(frame(3, { ch0: 1, ch1: 2, ch2: 3 }));
-    const first = encode(p).text;
-    expect(encode(p).text).toBe(first);
-    expect(encode(processed(frame(4, { ch0: 1, ch1: 2, ch2: 3 }))).text).not.toBe(first);
+    const first = lineBlockText(encode(p));
+    expect(lineBlockText(encode(p))).toBe(first);
+    expect(lineBlockText(encode(processed(frame(4, { ch0: 1, ch1: 2, ch2: 3 }))))).not.toBe(first);
   });
 });
 
@@ -77,8 +78,8 @@ describe('frameLineEncoder: names cannot inject line protocol', () => {
     const s = compileOrThrow({ ...doc, gauges, structure: { id: 'deck-a', name: 'x', location: 'y' } });
     const f: LoggerFrame = { ...frame(1, {}), values: new Map([[channels[0], 1.5], [channels[1], 2.5], [channels[2], 3.5]]) };
     const block = frameLineEncoder()(new FrameProcessor<null>(s).onFrame(f, null, f.arrivalMs)[0]);
-    expect(block.text.trimEnd().split('\n')).toHaveLength(2);
-    const [, raw] = decodeLines(block.text);
+    expect(lineBlockText(block).trimEnd().split('\n')).toHaveLength(2);
+    const [, raw] = decodeLines(lineBlockText(block));
     // The reference escaping (line protocol "Special characters"): each name comes back whole, no extra field or tag.
     expect(raw.tags).toEqual({ structure: 'deck-a', logger: 'lg' });
     expect(raw.fields).toEqual({ 'ch 0': 1.5, 'ch,1 seq=9': 2.5, 'ch=2 "x"\\': 3.5, missing_channels: 0, arrival_lag_ms: 25, seq: 1 });

@@ -1,7 +1,7 @@
 import { TestScheduler } from 'rxjs/testing';
 import { describe, expect, it } from 'vitest';
 import { MemorySink } from '../../src/adapters/memory-sink.js';
-import type { LineBlock, LineWriter } from '../../src/model/point.js';
+import { lineBlockText, type LineBlock, type LineWriter } from '../../src/model/point.js';
 import type { LoggerFrame } from '../../src/model/raw-message.js';
 import { processFrames, type FrameInput, type FrameOutput } from '../../src/pipeline/process-frames.js';
 import { writeAndAck } from '../../src/pipeline/write-and-ack.js';
@@ -45,7 +45,7 @@ describe('writeAndAck', () => {
   it('acknowledges a frame only after its points are written, in order', async () => {
     const events: string[] = [];
     const sink: LineWriter = {
-      writeLines: async (block: LineBlock) => { events.push(`write ${block.text.split(' ').pop()}`); },
+      writeLines: async (block: LineBlock) => { events.push(`write ${lineBlockText(block).split(' ').pop()}`); },
     };
     const msg = (t: number) => ({ ack: () => events.push(`ack ${t}`) });
     await lastValueFrom(from([processed(msg(1), 1), { kind: 'tick', nowMs: 2 } as const, processed(msg(3), 3)]).pipe(writeAndAck(sink)));
@@ -94,7 +94,7 @@ describe('writeAndAck', () => {
   it('keeps at most `concurrency` writes in flight, starts the rest in arrival order, and completes after the last', async () => {
     const started: string[] = [];
     const finish: Array<() => void> = [];
-    const sink: LineWriter = { writeLines: (block) => new Promise<void>((resolve) => { started.push(block.text.split(' ').pop()!); finish.push(resolve); }) };
+    const sink: LineWriter = { writeLines: (block) => new Promise<void>((resolve) => { started.push(lineBlockText(block).split(' ').pop()!); finish.push(resolve); }) };
     const acked: number[] = [];
     let completed = false;
     const out: number[] = [];

@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { decodeLines } from '../../src/adapters/lineproto/decode.js';
 import { replay, type ReplaySummary } from '../../src/app/replay.js';
 import { compileStructure, type CompiledStructure } from '../../src/config/compile.js';
-import type { LineBlock, Point, PointSink } from '../../src/model/point.js';
+import { lineBlockText, type LineBlock, type Point, type PointSink } from '../../src/model/point.js';
 import type { RawMessage } from '../../src/model/raw-message.js';
 import { RESULT_QUANTITIES } from '../../src/model/result.js';
 import { defaultScenario } from '../../simulators/default-scenario.js';
@@ -23,7 +23,7 @@ class TextSink implements PointSink {
   readonly blocks: string[] = [];
   readonly alarmPoints: Point[] = [];
   async write(points: readonly Point[]) { this.alarmPoints.push(...points); }
-  async writeLines(block: LineBlock) { this.blocks.push(block.text); }
+  async writeLines(block: LineBlock) { this.blocks.push(lineBlockText(block)); }
   async close() {}
   lines(): string[] { return this.blocks.flatMap((b) => b.split('\n')); }
 }

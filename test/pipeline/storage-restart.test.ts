@@ -1,3 +1,4 @@
+import { lineBlockText } from '../../src/model/point.js';
 import { readFile } from 'node:fs/promises';
 import { parse } from 'yaml';
 import { lastValueFrom, Subject, toArray } from 'rxjs';
@@ -59,12 +60,12 @@ async function drive(from: number, state: StorageState | undefined, cutAt = Numb
   input.pipe(stage).subscribe({
     next: (b) => {
       // Summary blocks take longer (a slow database answer): a cut finds closed intervals not yet durable.
-      const turns = b.block.text.startsWith('sw_summary') || b.block.text.startsWith('sw_raw_summary') ? 4 : 1;
+      const turns = lineBlockText(b.block).startsWith('sw_summary') || lineBlockText(b.block).startsWith('sw_raw_summary') ? 4 : 1;
       inFlight++;
       const durable = (n: number): void => {
         if (cut) return;
         if (n > 1) { setImmediate(() => durable(n - 1)); return; }
-        for (const line of b.block.text.split('\n')) db.set(lineKey(line), line);
+        for (const line of lineBlockText(b.block).split('\n')) db.set(lineKey(line), line);
         b.message.ack();
         if (--inFlight === 0 && stageDone) completed();
       };

@@ -14,7 +14,7 @@
  *   it is set aside in `<spool dir>/refused/` and counted in `refusedPoints`.
  * - The token is never logged; `lastError` and every error are redacted.
  */
-import type { LineBlock, Point, PointSink } from '../../model/point.js';
+import { joinLineBlocks, lineBlockOf, type LineBlock, type Point, type PointSink } from '../../model/point.js';
 import { encodeLines } from '../lineproto/encode.js';
 import { Spool, type SpoolOptions } from '../spool/spool.js';
 import { cancellableSleep } from './backoff.js';
@@ -26,9 +26,7 @@ import { sendWithRetry } from './send-with-retry.js';
 
 export type { InfluxSinkOptions, InfluxSinkStatus } from './influx-sink-types.js';
 
-interface Pending {
-  /** One or more lines, newline-separated. */
-  text: string;
+interface Pending extends LineBlock {
   lines: number;
   resolve: () => void;
   reject: (err: unknown) => void;
@@ -72,14 +70,14 @@ export class InfluxSink implements PointSink {
   write(points: readonly Point[]): Promise<void> {
     if (this.closed) return Promise.reject(new Error('influx sink: write after close'));
     const lines = encodeLines(points);
-    return this.writeLines({ text: lines.join('\n'), lines: lines.length });
+    return this.writeLines(lineBlockOf(lines.join('\n'), lines.length));
   }
 
   writeLines(block: LineBlock): Promise<void> {
     if (this.closed) return Promise.reject(new Error('influx sink: write after close'));
     if (block.lines === 0) return Promise.resolve();
     return new Promise<void>((resolve, reject) => {
-      this.pending.push({ text: block.text, lines: block.lines, resolve, reject });
+      this.pending.push({ bytes: block.bytes, lines: block.lines, resolve, reject });
       this.pendingLines += block.lines;
       if (this.pendingLines >= this.opts.batchSize) this.startPump();
       else this.armTimer();
@@ -152,7 +150,8 @@ export class InfluxSink implements PointSink {
         for (const p of batch) if (err === undefined) p.resolve(); else p.reject(err);
         this.startPump();
       };
-      this.deliver(batch.map((p) => p.text), count).then(() => done(undefined), (err: unknown) => done(err ?? new Error('database write failed')));
+      // One text per batch, made from the blocks' bytes: no string per frame.
+      this.deliver([joinLineBlocks(batch, false).toString('utf8')], count).then(() => done(undefined), (err: unknown) => done(err ?? new Error('database write failed')));
     }
     if (this.pending.length === 0) {
       this.flushDue = false;

@@ -6,7 +6,7 @@
  */
 import { mkdir, open, readdir, type FileHandle } from 'node:fs/promises';
 import { join } from 'node:path';
-import type { LineBlock, Point, PointSink } from '../../model/point.js';
+import { joinLineBlocks, lineBlockOf, type LineBlock, type Point, type PointSink } from '../../model/point.js';
 import { encodeLines } from './encode.js';
 
 export interface LineFileSinkOptions {
@@ -32,7 +32,7 @@ export interface LineFileSinkStatus {
 }
 
 /** A block waiting to be appended, and how to tell its writer. */
-interface PendingBlock { text: string; lines: number; resolve: () => void; reject: (err: unknown) => void }
+interface PendingBlock extends LineBlock { resolve: () => void; reject: (err: unknown) => void }
 
 /**
  * File sink. Writes are appended in call order; each resolves once its lines are appended. Blocks
@@ -62,14 +62,14 @@ export class LineFileSink implements PointSink {
     if (this.closed) return Promise.reject(new Error('line file sink: write after close'));
     const lines = encodeLines(points);
     this.skippedPoints += points.length - lines.length;
-    return this.writeLines({ text: lines.join('\n'), lines: lines.length });
+    return this.writeLines(lineBlockOf(lines.join('\n'), lines.length));
   }
 
   writeLines(block: LineBlock): Promise<void> {
     if (this.closed) return Promise.reject(new Error('line file sink: write after close'));
     if (block.lines === 0) return this.draining ?? Promise.resolve();
     return new Promise<void>((resolve, reject) => {
-      this.pending.push({ text: block.text + '\n', lines: block.lines, resolve, reject });
+      this.pending.push({ bytes: block.bytes, lines: block.lines, resolve, reject });
       this.draining ??= this.drain();
     });
   }
@@ -102,20 +102,19 @@ export class LineFileSink implements PointSink {
     let end = start;
     try {
       const now = this.now();
-      let bytes = Buffer.byteLength(batch[start].text);
+      // Each block is written with its final newline.
+      let bytes = batch[start].bytes.byteLength + 1;
       const tooBig = this.fileBytes > 0 && this.fileBytes + bytes > this.opts.maxFileBytes;
       const tooOld = now - this.fileStartMs >= this.opts.maxFileAge_ms;
       if (this.handle === null || tooBig || tooOld) await this.rotate(now);
       end = start + 1;
       while (end < batch.length) {
-        const more = Buffer.byteLength(batch[end].text);
+        const more = batch[end].bytes.byteLength + 1;
         if (this.fileBytes + bytes + more > this.opts.maxFileBytes) break;
         bytes += more;
         end++;
       }
-      let text = batch[start].text;
-      for (let k = start + 1; k < end; k++) text += batch[k].text;
-      await this.handle!.appendFile(text, 'utf8');
+      await this.handle!.appendFile(joinLineBlocks(batch.slice(start, end), true));
       if (this.opts.fsync) await this.handle!.sync();
       this.fileBytes += bytes;
       for (let k = start; k < end; k++) this.writtenPoints += batch[k].lines;

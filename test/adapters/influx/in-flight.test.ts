@@ -1,3 +1,4 @@
+import { lineBlockOf } from '../../../src/model/point.js';
 import { createServer, type Server } from 'node:http';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -37,7 +38,7 @@ describe('InfluxSink batches in flight', () => {
         batchSize: 10, flushInterval_ms: 5, maxInFlight, maxRetries: 0, minRetryDelay_ms: 10, maxRetryDelay_ms: 10,
         spool: { dir, limitBytes: 1_000_000 },
       });
-      const writes = Array.from({ length: 60 }, (_, i) => sink.writeLines({ text: `m v=${i} ${1_000 + i}`, lines: 1 }));
+      const writes = Array.from({ length: 60 }, (_, i) => sink.writeLines(lineBlockOf(`m v=${i} ${1_000 + i}`, 1)));
       await Promise.all(writes);
       await sink.close();
       expect(srv.maxOpen()).toBe(maxInFlight);

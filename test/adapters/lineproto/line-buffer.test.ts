@@ -1,3 +1,4 @@
+import { lineBlockText } from '../../../src/model/point.js';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { LineBuffer } from '../../../src/adapters/lineproto/line-buffer.js';
@@ -5,7 +6,7 @@ import { LineBuffer } from '../../../src/adapters/lineproto/line-buffer.js';
 const text = (write: (b: LineBuffer) => void): string => {
   const b = new LineBuffer();
   write(b);
-  return b.take().text;
+  return lineBlockText(b.take());
 };
 
 describe('LineBuffer.fixed: a value to at most d decimals', () => {
@@ -59,7 +60,7 @@ describe('LineBuffer.exact: a value that reads back unchanged', () => {
 });
 
 describe('LineBuffer blocks', () => {
-  it('counts lines, leaves out the final newline, grows past its first 64 KiB and starts over after take', () => {
+  it('counts lines, leaves out the final newline, and is empty after take', () => {
     const b = new LineBuffer();
     const name = Buffer.from('m f=');
     for (let i = 0; i < 20_000; i++) {
@@ -69,9 +70,37 @@ describe('LineBuffer blocks', () => {
     }
     const block = b.take();
     expect(block.lines).toBe(20_000);
-    const lines = block.text.split('\n');
+    const lines = lineBlockText(block).split('\n');
     expect(lines).toHaveLength(20_000);
     expect(lines[19_999]).toBe('m f=19999');
-    expect(b.take()).toEqual({ text: '', lines: 0 });
+    const empty = b.take();
+    expect([empty.lines, empty.bytes.byteLength]).toEqual([0, 0]);
+  });
+
+  it('never writes again where a block it handed out lies: 3 MiB in blocks across slabs, and one block larger than a slab', () => {
+    const b = new LineBuffer();
+    const name = Buffer.from('sw_result,group=r1 stress_xx_MPa=');
+    const kept: Array<{ block: ReturnType<LineBuffer['take']>; first: number; last: number }> = [];
+    let i = 0;
+    while (i < 80_000) {
+      const first = i;
+      for (const end = i + 1 + (i % 977); i < end; i++) { b.bytes(name); b.fixed(i / 7, 6); b.endLine(); }
+      kept.push({ block: b.take(), first, last: i - 1 });
+    }
+    const expected = (k: number) => `sw_result,group=r1 stress_xx_MPa=${Number((k / 7).toFixed(6))}`;
+    for (const { block, first, last } of kept) {
+      const lines = lineBlockText(block).split('\n');
+      expect(lines.length).toBe(block.lines);
+      expect(lines.length).toBe(last - first + 1);
+      expect([lines[0], lines[lines.length - 1]]).toEqual([expected(first), expected(last)]);
+    }
+    const total = kept.reduce((n, k) => n + k.block.bytes.byteLength, 0);
+    expect(total).toBeGreaterThan(3 * 1024 * 1024);
+    // One block of 100,000 lines (about 4 MiB) moves to ever larger slabs as it grows.
+    for (let k = 0; k < 100_000; k++) { b.bytes(name); b.fixed(k / 7, 6); b.endLine(); }
+    const big = lineBlockText(b.take()).split('\n');
+    expect([big.length, big[0], big[99_999]]).toEqual([100_000, expected(0), expected(99_999)]);
+    // The first blocks still read as they did.
+    expect(lineBlockText(kept[0].block).split('\n')[0]).toBe(expected(0));
   });
 });

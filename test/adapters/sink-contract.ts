@@ -97,5 +97,15 @@ export function describeSinkContract(name: string, open: () => Promise<SinkUnder
       expect(back[0].fields.zero).toBe(0);
       expectSamePoints(back, [point]);
     });
+
+    it('keeps UTF-8 tag values (two-, three- and four-byte characters) as written', async () => {
+      const { sink, readBack } = await start();
+      const m = uniqueMeasurement();
+      const base = samplePoints(m, 1)[0];
+      const point: Point = { ...base, tags: { structure: 'brannock-mere', zone: 'M\u00fchlfeld \u2013 \u00e9tage \u00b0C \u{1F309}' } };
+      await sink.write([point]);
+      const back = await readBack(m);
+      expect(back.map((p) => p.tags)).toEqual([point.tags]);
+    });
   });
 }

@@ -45,7 +45,7 @@ export class InfluxSink implements PointSink {
   private idleWaiters: Array<() => void> = [];
   private closed = false;
   private readonly now: () => number;
-  private readonly post: (lines: readonly string[]) => Promise<void>;
+  private readonly post: (body: readonly string[] | Uint8Array) => Promise<void>;
   private readonly drainer: SpoolDrainer;
   private readonly counters = { writtenPoints: 0, spooledPoints: 0, refusedPoints: 0, failedWrites: 0 };
   private readonly health: { dbReachable: boolean | null; lastError: string | null } = { dbReachable: null, lastError: null };
@@ -150,8 +150,8 @@ export class InfluxSink implements PointSink {
         for (const p of batch) if (err === undefined) p.resolve(); else p.reject(err);
         this.startPump();
       };
-      // One text per batch, made from the blocks' bytes: no string per frame.
-      this.deliver([joinLineBlocks(batch, false).toString('utf8')], count).then(() => done(undefined), (err: unknown) => done(err ?? new Error('database write failed')));
+      // One body per batch, the blocks' bytes joined: no string per frame, none per batch.
+      this.deliver(joinLineBlocks(batch, false), count).then(() => done(undefined), (err: unknown) => done(err ?? new Error('database write failed')));
     }
     if (this.pending.length === 0) {
       this.flushDue = false;
@@ -164,17 +164,18 @@ export class InfluxSink implements PointSink {
   }
 
   /** Database first when nothing is spooled; otherwise (or when it fails) behind the spool. */
-  private async deliver(texts: string[], lines: number): Promise<void> {
+  private async deliver(body: Uint8Array, lines: number): Promise<void> {
     if (this.opts.spool.isEmpty() && !this.drainer.running) {
       try {
-        await sendWithRetry(() => this.post(texts), this.opts, (err) => this.noteFailed(err));
+        await sendWithRetry(() => this.post(body), this.opts, (err) => this.noteFailed(err));
         this.noteWritten(lines);
         return;
       } catch (err) {
-        if (err instanceof DatabaseWriteError && !err.retryable) return this.setAside(texts, lines);
+        if (err instanceof DatabaseWriteError && !err.retryable) return this.setAside([textOf(body)], lines);
       }
     }
-    await this.opts.spool.append(texts, lines);
+    // Only a batch the database did not take becomes text (the spool's unit).
+    await this.opts.spool.append([textOf(body)], lines);
     this.counters.spooledPoints += lines;
     this.drainer.kick();
   }
@@ -195,6 +196,8 @@ export class InfluxSink implements PointSink {
     this.health.lastError = err.message;
   }
 }
+
+const textOf = (bytes: Uint8Array): string => Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString('utf8');
 
 /** Opens the spool described by `spool` (finding old segments) and builds the sink on it. */
 export async function openInfluxSink(options: Omit<InfluxSinkOptions, 'spool'> & { spool: SpoolOptions }): Promise<InfluxSink> {

@@ -4,19 +4,13 @@
  * depth limit. Pure. Every message gets the allocation-free count; the naming pass only a refusal.
  */
 
+import { BACKSLASH, CLOSE_ARRAY, CLOSE_OBJECT, COLON, COMMA, OPEN_ARRAY, OPEN_OBJECT, QUOTE } from './char-codes.js';
+
 /** Deepest nesting a logger message needs is 2 (`{"values":{...}}`); anything far deeper is refused. */
 export const MAX_JSON_DEPTH = 32;
 
 export type JsonShapeProblem = { kind: 'duplicate_key'; key: string; path: string } | { kind: 'too_deep'; depth: number };
 
-const QUOTE = 0x22;
-const BACKSLASH = 0x5c;
-const OPEN_OBJECT = 0x7b;
-const CLOSE_OBJECT = 0x7d;
-const OPEN_ARRAY = 0x5b;
-const CLOSE_ARRAY = 0x5d;
-const COLON = 0x3a;
-const COMMA = 0x2c;
 
 /**
  * The cheap check for every message, allocation-free: the object keys written in `text` (strings

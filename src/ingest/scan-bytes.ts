@@ -12,6 +12,8 @@
  * scratch); allocates the Map of values, two small records, and strings only for changed keys.
  */
 
+import { BACKSLASH, CLOSE_OBJECT, COLON, COMMA, DOT, MINUS, NINE, OPEN_OBJECT, QUOTE, ZERO } from './char-codes.js';
+
 /** One logger's channel keys as its previous scan sent them: key k is bytes[starts[k]..starts[k+1]). */
 export interface ChannelKeys {
   readonly ids: readonly string[];
@@ -31,16 +33,6 @@ export interface ByteScan {
   keys: ChannelKeys;
 }
 
-const QUOTE = 0x22;
-const COMMA = 0x2c;
-const COLON = 0x3a;
-const MINUS = 0x2d;
-const DOT = 0x2e;
-const ZERO = 0x30;
-const NINE = 0x39;
-const BACKSLASH = 0x5c;
-const OPEN_OBJECT = 0x7b;
-const CLOSE_OBJECT = 0x7d;
 
 /**
  * Exact powers of ten as doubles (10^22 is the largest). A decimal of at most 15 significant

@@ -177,10 +177,13 @@ afterAll(async () => {
 describe('metrics endpoint on a live job (Mosquitto; database down, spool)', () => {
   it('counts what was published: messages, dead letters by reason, results written, open alarms by severity', async () => {
     const scans = Object.values(STRESSES_MPA).reduce((n, s) => n + s.length, 0);
-    const samples = await until('every scan written and every refusal counted', async () => {
+    // A frame counts as written when its lines are durable; its PUBACK goes out a little later
+    // (behind the storage state and earlier messages): wait for none held too (CI once scraped 3).
+    const samples = await until('every scan written, every refusal counted and every message acknowledged', async () => {
       const s = await scrape();
       return valueOf(s, 'strainward_frames_written_total') === scans && valueOf(s, 'strainward_dead_letters_total') === BAD.length
-        && valueOf(s, 'strainward_open_alarms', { severity: 'alert', class: 'structural', state: 'active_unacknowledged' }) === 1 ? s : undefined;
+        && valueOf(s, 'strainward_open_alarms', { severity: 'alert', class: 'structural', state: 'active_unacknowledged' }) === 1
+        && valueOf(s, 'strainward_held_acks') === 0 ? s : undefined;
     });
     for (const s of samples.filter((x) => x.name.startsWith('strainward_'))) expect(s.labels.structure, s.name).toBe('metrics-deck');
     expect(valueOf(samples, 'strainward_messages_received_total')).toBe(scans + BAD.length);

@@ -16,6 +16,7 @@ const KeyStateSchema = z.strictObject({
   quietSinceMs: NullNum,
   // Added within version 2 (optional: every older snapshot still reads the same).
   judgedToMs: Num.optional(),
+  judgedSeq: Num.optional(),
   trend: Window.optional(),
   rate: Window.optional(),
   hampel: hampelStateSchema.optional(),

@@ -20,8 +20,12 @@ export interface KeyState {
    * Structural rules: the latest logger time judged (ms). A result at or before it is a scan
    * judged already (redelivered after a takeover or a broker failover, possibly behind newer ones)
    * or older than one judged: no evidence either way, so it never raises an alarm a second time.
+   * At that same time, a result with a higher scan seq than `judgedSeq` is a new scan (a logger
+   * whose clock gives two scans one millisecond, or coarser), as the summaries count it.
    */
   judgedToMs?: number;
+  /** Seq of the scan judged at `judgedToMs`; absent when it had none. */
+  judgedSeq?: number;
   trend?: SampleWindow;
   rate?: SampleWindow;
   hampel?: HampelState;

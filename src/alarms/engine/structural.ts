@@ -45,8 +45,10 @@ export function evaluateStructural(ctx: EngineContext, compiled: CompiledRules, 
     const key = alarmKey(rule.id, subjectKey);
     const ks = keyState(ctx, key, rule.thresholds.length);
     // Judged already (a redelivered scan) or older than what was: at-least-once delivery must not raise twice.
-    if (ks.judgedToMs !== undefined && r.timeMs <= ks.judgedToMs) continue;
+    if (judgedAlready(ks, r)) continue;
     ks.judgedToMs = r.timeMs;
+    if (r.seq === null) delete ks.judgedSeq;
+    else ks.judgedSeq = r.seq;
     ks.trend ??= newSampleWindow();
     pushSample(ks.trend, r.timeMs, value, trendMs, trendMs / 120);
     let raw: number;
@@ -65,6 +67,13 @@ export function evaluateStructural(ctx: EngineContext, compiled: CompiledRules, 
     out.push(...evaluate(ctx, structuralDescriptor(rule, r, subjectKey, key, group?.location), structuralEvaluation(compiled, rule, ks, r.timeMs, raw, measured, trendMs), ks));
   }
   return out;
+}
+
+/** At or before the latest result judged for the key; at its time, new only with a higher seq. */
+function judgedAlready(ks: KeyState, r: GroupResult): boolean {
+  if (ks.judgedToMs === undefined || r.timeMs > ks.judgedToMs) return false;
+  if (r.timeMs < ks.judgedToMs) return true;
+  return !(r.seq !== null && ks.judgedSeq !== undefined && r.seq > ks.judgedSeq);
 }
 
 function structuralDescriptor(rule: ResultRule, r: GroupResult, subjectKey: string, key: string, location: string | undefined): AlarmDescriptor {

@@ -33,6 +33,18 @@ describe('alarm engine: scans delivered again', () => {
     expect(steps(next, [res(8, 170)])).toEqual(['raised brannock-mere:vm-girder:g:S1-MID-G2:1 #2']);
   });
 
+  it('two scans in one millisecond: the one with the higher seq is judged, the same seq again is not, one without a seq is not', () => {
+    const e = createAlarmEngine(config(), lookups);
+    const at = (s: number, vm: number, seq: number | null): AlarmInput => ({ type: 'result', result: { ...result(T0 + s * 1000, vm), seq } });
+    expect(steps(e, [at(0, 100, 1), at(0, 100, 2)])).toEqual([]);
+    // The logger's clock gives seq 3 the same millisecond as seq 2: still a new scan.
+    expect(steps(e, [at(1, 160, 3), at(1, 165, 4)])).toEqual(['raised brannock-mere:vm-girder:g:S1-MID-G2:1 #1']);
+    expect(parseState(e.snapshot()).keys['vm-girder|g:S1-MID-G2']).toMatchObject({ judgedToMs: T0 + 1000, judgedSeq: 4 });
+    // Back under the limit at seq 5, then seq 4 delivered again and a scan without a seq at that time: neither is judged.
+    expect(steps(e, [at(2, 100, 5), at(2, 100, 6), at(3, 100, 7)])).toEqual(['cleared brannock-mere:vm-girder:g:S1-MID-G2:1 #1']);
+    expect(steps(e, [at(3, 210, 7), at(3, 210, null), at(1, 210, 4)])).toEqual([]);
+  });
+
   it('an active alarm neither cleared nor lowered by an old scan arriving late', () => {
     const e = createAlarmEngine(config(), lookups);
     steps(e, [res(0, 100), res(1, 210), res(2, 215)]);

@@ -60,26 +60,30 @@ export function decodeMessage(
 }
 
 /**
- * Each logger's channel keys of its last byte-read scan, with the directory that knew them all:
- * loggers send the same keys every scan, so comparing bytes replaces building strings and the
- * directory is not asked again (its answers are fixed, see ChannelDirectory). Only known keys are
- * kept, so the memory is the size of the configuration; emptied if more loggers than this appear.
+ * Per directory, each logger's channel keys of its last byte-read scan, kept only once the
+ * directory knew them all: loggers send the same keys every scan, so comparing bytes replaces
+ * building strings and the directory is not asked again (its answers are fixed, see
+ * ChannelDirectory). Keyed by directory first, so two structures in one process (cluster units)
+ * never displace each other's keys; only known keys are kept, so the memory is the size of the
+ * configuration, emptied if more loggers than this appear.
  */
 const MAX_REMEMBERED_LOGGERS = 4096;
-const remembered = new Map<string, { keys: ChannelKeys; knownIn: ChannelDirectory }>();
+const remembered = new WeakMap<ChannelDirectory, Map<string, ChannelKeys>>();
 
 /** The frame of a common scan read from its bytes that passes every check, else null. */
 function frameFromBytes(raw: RawMessage, directory: ChannelDirectory, loggerId: string, limits: DecodeLimits): LoggerFrame | null {
   if (raw.payload.byteLength > MAX_PAYLOAD_BYTES) return null;
-  const memory = remembered.get(loggerId);
-  const scan = scanFromBytes(raw.payload, memory?.keys ?? null);
+  let known = remembered.get(directory);
+  const previous = known?.get(loggerId) ?? null;
+  const scan = scanFromBytes(raw.payload, previous);
   if (scan === null) return null;
   const problems: Rejection[] = [];
-  if (memory === undefined || scan.keys !== memory.keys || memory.knownIn !== directory) {
+  if (scan.keys !== previous) {
     checkChannels(scan.values.keys(), true, loggerId, directory, problems);
     if (problems.length > 0) return null;
-    if (memory === undefined && remembered.size >= MAX_REMEMBERED_LOGGERS) remembered.clear();
-    remembered.set(loggerId, { keys: scan.keys, knownIn: directory });
+    if (known === undefined) remembered.set(directory, (known = new Map()));
+    if (previous === null && known.size >= MAX_REMEMBERED_LOGGERS) known.clear();
+    known.set(loggerId, scan.keys);
   }
   const timeMs = checkedTime(scan.ts, raw.arrivalMs, limits, problems);
   if (problems.length > 0) return null;

@@ -35,8 +35,12 @@ export function lineBlockOf(text: string, lines: number): LineBlock {
 
 /** A block's lines as text. */
 export function lineBlockText(block: LineBlock): string {
-  const b = block.bytes;
-  return Buffer.from(b.buffer, b.byteOffset, b.byteLength).toString('utf8');
+  return utf8Text(block.bytes);
+}
+
+/** UTF-8 bytes as text, without copying them first. */
+export function utf8Text(bytes: Uint8Array): string {
+  return Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString('utf8');
 }
 
 /**

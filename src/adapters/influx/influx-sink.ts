@@ -14,7 +14,7 @@
  *   it is set aside in `<spool dir>/refused/` and counted in `refusedPoints`.
  * - The token is never logged; `lastError` and every error are redacted.
  */
-import { joinLineBlocks, lineBlockOf, type LineBlock, type Point, type PointSink } from '../../model/point.js';
+import { joinLineBlocks, lineBlockOf, utf8Text, type LineBlock, type Point, type PointSink } from '../../model/point.js';
 import { encodeLines } from '../lineproto/encode.js';
 import { Spool, type SpoolOptions } from '../spool/spool.js';
 import { cancellableSleep } from './backoff.js';
@@ -171,11 +171,11 @@ export class InfluxSink implements PointSink {
         this.noteWritten(lines);
         return;
       } catch (err) {
-        if (err instanceof DatabaseWriteError && !err.retryable) return this.setAside([textOf(body)], lines);
+        if (err instanceof DatabaseWriteError && !err.retryable) return this.setAside([utf8Text(body)], lines);
       }
     }
     // Only a batch the database did not take becomes text (the spool's unit).
-    await this.opts.spool.append([textOf(body)], lines);
+    await this.opts.spool.append([utf8Text(body)], lines);
     this.counters.spooledPoints += lines;
     this.drainer.kick();
   }
@@ -196,8 +196,6 @@ export class InfluxSink implements PointSink {
     this.health.lastError = err.message;
   }
 }
-
-const textOf = (bytes: Uint8Array): string => Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString('utf8');
 
 /** Opens the spool described by `spool` (finding old segments) and builds the sink on it. */
 export async function openInfluxSink(options: Omit<InfluxSinkOptions, 'spool'> & { spool: SpoolOptions }): Promise<InfluxSink> {

@@ -3,6 +3,7 @@ import { Etcd3 } from 'etcd3';
 import type { LoadedCluster } from '../cluster/load-cluster.js';
 import { UnitLeases } from '../cluster/unit-leases.js';
 import { startLive, type LiveDeps, type LiveProcessor } from './live.js';
+import { settlesWithin } from './time-bound.js';
 
 export interface ClusterProcessor {
   processorId: string;
@@ -58,9 +59,9 @@ export async function startClusterProcessor(cluster: LoadedCluster, deps: LiveDe
       else if (live !== undefined) {
         // Its connections are gone: what it had not acknowledged comes back to the next holder. The
         // rest is cleanup, given a bounded time so that this processor can join again.
-        const timedOut = await Promise.race([live.stop().then(() => false), new Promise<boolean>((r) => setTimeout(() => r(true), LOST_STOP_MS).unref())]);
+        const stopped = await settlesWithin(live.stop(), LOST_STOP_MS);
         forget();
-        if (timedOut) (deps.warn ?? deps.log)('unit_stop_timed_out', { unit: key, processor: processorId, after_ms: LOST_STOP_MS });
+        if (!stopped) (deps.warn ?? deps.log)('unit_stop_timed_out', { unit: key, processor: processorId, after_ms: LOST_STOP_MS });
       }
       deps.log('unit_stopped', { unit: key, processor: processorId, how });
     },

@@ -3,6 +3,7 @@ import { clusterPrefix } from '../app/cluster-run.js';
 import { loadClusterFile } from '../cluster/load-cluster.js';
 import { readHolders } from '../cluster/unit-leases.js';
 import { SilentProcessorError } from './errors.js';
+import { withTimeout } from '../app/time-bound.js';
 
 export interface UnitStanding { unit: string; holder: string | null; since: string | null; age_s: number | null }
 
@@ -16,10 +17,8 @@ export async function checkClusterStatus(file: string, o: { json: boolean; waitM
   const etcd = new Etcd3({ hosts: cluster.config.cluster.etcd.endpoints, dialTimeout: o.waitMs });
   let holders;
   try {
-    holders = await Promise.race([
-      readHolders(etcd, clusterPrefix(cluster.config.cluster.name), cluster.units.map((u) => u.key)),
-      new Promise<never>((_, reject) => setTimeout(() => reject(new Error(`etcd at ${cluster.config.cluster.etcd.endpoints.join(', ')} did not answer within ${o.waitMs} ms`)), o.waitMs * 5)),
-    ]);
+    holders = await withTimeout(readHolders(etcd, clusterPrefix(cluster.config.cluster.name), cluster.units.map((u) => u.key)),
+      o.waitMs * 5, `etcd at ${cluster.config.cluster.etcd.endpoints.join(', ')} did not answer within ${o.waitMs} ms`);
   } finally {
     etcd.close();
   }

@@ -8,6 +8,7 @@ import { AckRefusedError } from '../errors.js';
 import { parseOptions } from '../options.js';
 import { connectOneShot } from '../../adapters/mqtt/one-shot-client.js';
 import { brokerAccess } from '../../app/broker-access.js';
+import { withTimeout } from '../../app/time-bound.js';
 
 /** Options of `strainward ack`; the alarm, user and reason obey the command payload's own limits. */
 export const AckOptionsSchema = z.strictObject({
@@ -97,12 +98,6 @@ function safeJson(text: string): unknown {
   } catch {
     return null;
   }
-}
-
-function withTimeout<T>(p: Promise<T>, ms: number, message: string): Promise<T> {
-  let timer: NodeJS.Timeout | undefined;
-  return Promise.race([p, new Promise<never>((_, reject) => { timer = setTimeout(() => reject(new Error(message)), ms); })])
-    .finally(() => clearTimeout(timer));
 }
 
 /** `strainward ack`: acknowledge one alarm through the broker. */

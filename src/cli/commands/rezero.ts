@@ -11,6 +11,7 @@ import { RezeroCommandSchema, RezeroVerdictSchema, type RezeroVerdict } from '..
 import { rezeroTopic, rezeroVerdictTopic } from '../../rezero/topics.js';
 import { RezeroRefusedError, UsageError } from '../errors.js';
 import { parseOptions } from '../options.js';
+import { withTimeout } from '../../app/time-bound.js';
 
 /** Options of `strainward rezero`; group, user and reason obey the request payload's own limits. */
 export const RezeroOptionsSchema = z.strictObject({
@@ -24,12 +25,6 @@ export const RezeroOptionsSchema = z.strictObject({
   timeoutMs: z.coerce.number().int().positive().default(10_000),
   json: z.boolean().default(false),
 });
-
-function withTimeout<T>(p: Promise<T>, ms: number, message: string): Promise<T> {
-  let timer: NodeJS.Timeout | undefined;
-  return Promise.race([p, new Promise<never>((_, reject) => { timer = setTimeout(() => reject(new Error(message)), ms); })])
-    .finally(() => clearTimeout(timer));
-}
 
 /**
  * Asks the running processor to take the group's current readings as its new zero: one request

@@ -8,6 +8,7 @@ import { loadClusterFile } from '../../cluster/load-cluster.js';
 import { startClusterProcessor } from '../../app/cluster-run.js';
 import { parseOptions } from '../options.js';
 import { EXIT } from '../exit-codes.js';
+import { settlesWithin } from '../../app/time-bound.js';
 
 export const RunOptionsSchema = z.strictObject({
   config: z.string().min(1).optional(),
@@ -29,13 +30,7 @@ export const STOP_DEADLINE_MS = 15_000;
 
 /** Runs the orderly stop; past STOP_DEADLINE_MS says so and ends the process (exit 1). */
 async function stopWithin(stop: () => Promise<void>, log: ReturnType<typeof makeLogger>): Promise<void> {
-  let timer: NodeJS.Timeout | undefined;
-  const timedOut = await Promise.race([
-    stop().then(() => false),
-    new Promise<boolean>((done) => { timer = setTimeout(() => done(true), STOP_DEADLINE_MS); }),
-  ]);
-  clearTimeout(timer);
-  if (!timedOut) return;
+  if (await settlesWithin(stop(), STOP_DEADLINE_MS)) return;
   log.warn({ event: 'stop_timed_out', after_ms: STOP_DEADLINE_MS, message: 'the orderly stop did not finish (broker, database or etcd not answering); ending now: unacknowledged messages come back to the next session' });
   log.flush();
   process.exit(EXIT.runtime);
